@@ -1,0 +1,4 @@
+//! File-system helpers shared by every writer.
+
+pub mod atomic;
+pub mod text;

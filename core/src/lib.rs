@@ -1,0 +1,8 @@
+//! Fieldstone core: every computation and file format of the program, with no
+//! GUI dependency. See ARCHITECTURE.md for the map of modules and the
+//! invariants they keep.
+
+pub mod forward;
+pub mod io;
+pub mod physics;
+pub mod units;
