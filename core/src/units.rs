@@ -73,9 +73,9 @@ mod tests {
 
     #[test]
     fn induced_magnetization_of_unit_susceptibility() {
-        // 50 000 nT = 0.05 T; H = B/μ₀ = 0.05 / (4π·10⁻⁷) ≈ 39 788.7 A/m.
+        // 50 000 nT = 5·10⁻⁵ T; H = B/μ₀ = 5·10⁻⁵ / (4π·10⁻⁷) ≈ 39.789 A/m.
         let m = induced_magnetization_a_m(1.0, 50_000.0);
-        let want = 0.05 / (4.0e-7 * std::f64::consts::PI);
+        let want = 5.0e-5 / (4.0e-7 * std::f64::consts::PI);
         assert!((m - want).abs() < 1e-12 * want, "{m} vs {want}");
     }
 
