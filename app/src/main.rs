@@ -1,1 +1,40 @@
-fn main(){}
+//! `fieldstone`: the project window (no subcommand) and the headless commands.
+
+mod commands;
+
+use clap::{Parser, Subcommand};
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+/// Fieldstone turns gravity and magnetic survey data into constrained 3D
+/// density and susceptibility models.
+#[derive(Debug, Parser)]
+#[command(name = "fieldstone", version, about, long_about = None, after_help = commands::CAUTIONS)]
+struct Cli {
+    /// Project folder to open in the window (the bundled demo project when omitted).
+    project: Option<PathBuf>,
+    #[command(subcommand)]
+    command: Option<Command>,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Forward-model prisms at stations: gravity (g_z, mGal) and, with an
+    /// inducing field, the magnetic field and total-field anomaly (nT).
+    Forward(commands::forward::ForwardArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Some(Command::Forward(args)) => commands::forward::run(&args),
+        None => commands::window::open(cli.project.as_deref()),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(message) => {
+            eprintln!("error: {message}");
+            ExitCode::FAILURE
+        }
+    }
+}

@@ -54,7 +54,10 @@ pub fn induced_magnetization_a_m(chi_si: f64, field_nt: f64) -> f64 {
 /// Unit vector, in the project frame (x east, y north, z up), of a direction
 /// given by the geomagnetic convention: inclination positive below the
 /// horizontal, declination positive east of geographic north, both in degrees.
-pub fn direction_from_inclination_declination(inclination_deg: f64, declination_deg: f64) -> [f64; 3] {
+pub fn direction_from_inclination_declination(
+    inclination_deg: f64,
+    declination_deg: f64,
+) -> [f64; 3] {
     let i = inclination_deg.to_radians();
     let d = declination_deg.to_radians();
     [i.cos() * d.sin(), i.cos() * d.cos(), -i.sin()]

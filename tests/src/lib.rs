@@ -5,8 +5,18 @@
 /// Eight-point Gauss–Legendre abscissae (positive half) and weights on
 /// [−1, 1], from Abramowitz & Stegun (1964), Table 25.4. The test
 /// `gl8_is_exact_to_degree_fifteen` confirms they were copied correctly.
-pub const GL8_POS_NODES: [f64; 4] = [0.183_434_642_495_649_8, 0.525_532_409_916_329_0, 0.796_666_477_413_626_7, 0.960_289_856_497_536_3];
-pub const GL8_POS_WEIGHTS: [f64; 4] = [0.362_683_783_378_362_0, 0.313_706_645_877_887_3, 0.222_381_034_453_374_5, 0.101_228_536_290_376_3];
+pub const GL8_POS_NODES: [f64; 4] = [
+    0.183_434_642_495_649_8,
+    0.525_532_409_916_329,
+    0.796_666_477_413_626_7,
+    0.960_289_856_497_536_3,
+];
+pub const GL8_POS_WEIGHTS: [f64; 4] = [
+    0.362_683_783_378_362,
+    0.313_706_645_877_887_3,
+    0.222_381_034_453_374_5,
+    0.101_228_536_290_376_3,
+];
 
 /// The full eight-point rule as (node, weight) pairs.
 pub fn gl8() -> [(f64, f64); 8] {
@@ -22,15 +32,28 @@ pub fn gl8() -> [(f64, f64); 8] {
 /// with `m` equal sub-intervals per axis and eight points per sub-interval.
 /// `u` is the integration point relative to `station`. Returns the sum of
 /// `f(u)·w` for vector-valued `f` with `N` components.
-pub fn cubature<const N: usize>(b: [[f64; 2]; 3], station: [f64; 3], m: usize, f: impl Fn([f64; 3]) -> [f64; N]) -> [f64; N] {
+pub fn cubature<const N: usize>(
+    b: [[f64; 2]; 3],
+    station: [f64; 3],
+    m: usize,
+    f: impl Fn([f64; 3]) -> [f64; N],
+) -> [f64; N] {
     let rule = gl8();
     let mut acc = [0.0; N];
-    let h = [(b[0][1] - b[0][0]) / m as f64, (b[1][1] - b[1][0]) / m as f64, (b[2][1] - b[2][0]) / m as f64];
+    let h = [
+        (b[0][1] - b[0][0]) / m as f64,
+        (b[1][1] - b[1][0]) / m as f64,
+        (b[2][1] - b[2][0]) / m as f64,
+    ];
     let jac = h[0] * h[1] * h[2] / 8.0;
     for a in 0..m {
         for bb in 0..m {
             for c in 0..m {
-                let lo = [b[0][0] + a as f64 * h[0], b[1][0] + bb as f64 * h[1], b[2][0] + c as f64 * h[2]];
+                let lo = [
+                    b[0][0] + a as f64 * h[0],
+                    b[1][0] + bb as f64 * h[1],
+                    b[2][0] + c as f64 * h[2],
+                ];
                 for &(tx, wx) in &rule {
                     let x = lo[0] + 0.5 * h[0] * (tx + 1.0) - station[0];
                     for &(ty, wy) in &rule {
@@ -61,7 +84,13 @@ pub fn subdivisions_for(b: [[f64; 2]; 3], station: [f64; 3]) -> usize {
     for a in 0..3 {
         let [lo, hi] = b[a];
         let v = station[a];
-        let d = if v < lo { lo - v } else if v > hi { v - hi } else { 0.0 };
+        let d = if v < lo {
+            lo - v
+        } else if v > hi {
+            v - hi
+        } else {
+            0.0
+        };
         d2 += d * d;
         longest = longest.max(hi - lo);
     }
@@ -97,7 +126,11 @@ pub fn b_by_cubature(b: [[f64; 2]; 3], station: [f64; 3], m: [f64; 3]) -> [f64; 
         let r = r2.sqrt();
         let mr = -(m[0] * u[0] + m[1] * u[1] + m[2] * u[2]);
         let r5 = r2 * r2 * r;
-        [(-3.0 * mr * u[0] - r2 * m[0]) / r5, (-3.0 * mr * u[1] - r2 * m[1]) / r5, (-3.0 * mr * u[2] - r2 * m[2]) / r5]
+        [
+            (-3.0 * mr * u[0] - r2 * m[0]) / r5,
+            (-3.0 * mr * u[1] - r2 * m[1]) / r5,
+            (-3.0 * mr * u[2] - r2 * m[2]) / r5,
+        ]
     });
     // μ₀/4π = 10⁻⁷ T·m/A = 100 nT·m/A.
     [100.0 * s[0], 100.0 * s[1], 100.0 * s[2]]
@@ -111,7 +144,11 @@ mod tests {
     fn gl8_is_exact_to_degree_fifteen() {
         for p in 0..=15 {
             let q: f64 = gl8().iter().map(|(t, w)| w * t.powi(p)).sum();
-            let exact = if p % 2 == 0 { 2.0 / (p as f64 + 1.0) } else { 0.0 };
+            let exact = if p % 2 == 0 {
+                2.0 / (p as f64 + 1.0)
+            } else {
+                0.0
+            };
             assert!((q - exact).abs() < 1e-15, "degree {p}");
         }
         let q16: f64 = gl8().iter().map(|(t, w)| w * t.powi(16)).sum();
@@ -121,7 +158,9 @@ mod tests {
     #[test]
     fn cubature_integrates_a_smooth_function() {
         // ∫∫∫ x² y z over [0,1]×[0,2]×[0,3] = (1/3)(2)(9/2) = 3.
-        let v = cubature([[0.0, 1.0], [0.0, 2.0], [0.0, 3.0]], [0.0; 3], 2, |u| [u[0] * u[0] * u[1] * u[2]]);
+        let v = cubature([[0.0, 1.0], [0.0, 2.0], [0.0, 3.0]], [0.0; 3], 2, |u| {
+            [u[0] * u[0] * u[1] * u[2]]
+        });
         assert!((v[0] - 3.0).abs() < 1e-13);
     }
 }

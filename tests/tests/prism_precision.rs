@@ -15,7 +15,11 @@ fn num(v: &serde_json::Value) -> f64 {
 
 #[test]
 fn kernels_agree_with_60_digit_reference_at_all_distances() {
-    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/fixtures/prism_high_precision.json")).unwrap();
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/fixtures/prism_high_precision.json"
+    ))
+    .unwrap();
     let fx: serde_json::Value = serde_json::from_str(&text).unwrap();
     let b = |k: &str| {
         let a = fx["prism"][k].as_array().unwrap();
@@ -25,16 +29,32 @@ fn kernels_agree_with_60_digit_reference_at_all_distances() {
     let rows = fx["rows"].as_array().unwrap();
     assert!(rows.len() >= 30);
     for row in rows {
-        let st: Vec<f64> = row["station"].as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect();
+        let st: Vec<f64> = row["station"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|v| v.as_f64().unwrap())
+            .collect();
         let st = [st[0], st[1], st[2]];
         let ratio = row["ratio"].as_f64().unwrap();
         let gz = prism_gz_mgal(&p, st, 1.0) / GRAVITY_KERNEL_TO_MGAL_PER_GCC;
         let want = num(&row["gz_kernel_m"]);
-        assert!(((gz - want) / want).abs() < 1e-9, "ratio {ratio}: g_z kernel {gz} vs {want}");
+        assert!(
+            ((gz - want) / want).abs() < 1e-9,
+            "ratio {ratio}: g_z kernel {gz} vs {want}"
+        );
         let t = prism_shape_tensor(&p, st).unwrap();
         let (tzz, txy) = (num(&row["t_zz"]), num(&row["t_xy"]));
         let scale = tzz.abs().max(txy.abs());
-        assert!((t.0[2] - tzz).abs() < 1e-9 * scale, "ratio {ratio}: T_zz {} vs {tzz}", t.0[2]);
-        assert!((t.0[3] - txy).abs() < 1e-9 * scale, "ratio {ratio}: T_xy {} vs {txy}", t.0[3]);
+        assert!(
+            (t.0[2] - tzz).abs() < 1e-9 * scale,
+            "ratio {ratio}: T_zz {} vs {tzz}",
+            t.0[2]
+        );
+        assert!(
+            (t.0[3] - txy).abs() < 1e-9 * scale,
+            "ratio {ratio}: T_xy {} vs {txy}",
+            t.0[3]
+        );
     }
 }

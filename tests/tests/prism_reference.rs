@@ -49,7 +49,10 @@ fn gravity_matches_independent_cubature_to_1e_8() {
         let cub = gz_by_cubature(bounds(&p), st, 0.3);
         let scale = norm(cub);
         for a in 0..3 {
-            assert!((closed[a] - cub[a]).abs() <= 1e-8 * scale, "station {st:?} component {a}: closed {closed:?} cubature {cub:?}");
+            assert!(
+                (closed[a] - cub[a]).abs() <= 1e-8 * scale,
+                "station {st:?} component {a}: closed {closed:?} cubature {cub:?}"
+            );
         }
         // The g_z-only path gives the same value as the three-component path.
         assert!((prism_gz_mgal(&p, st, 0.3) - closed[2]).abs() <= 1e-13 * scale);
@@ -65,7 +68,10 @@ fn magnetic_field_matches_independent_cubature_to_1e_8() {
         let cub = b_by_cubature(bounds(&p), st, m);
         let scale = norm(cub);
         for a in 0..3 {
-            assert!((closed[a] - cub[a]).abs() <= 1e-8 * scale, "station {st:?} component {a}: closed {closed:?} cubature {cub:?}");
+            assert!(
+                (closed[a] - cub[a]).abs() <= 1e-8 * scale,
+                "station {st:?} component {a}: closed {closed:?} cubature {cub:?}"
+            );
         }
     }
 }
@@ -81,26 +87,48 @@ fn far_field_equals_point_mass_and_dipole_at_ten_thousand_sizes() {
     let rho = 0.5;
     let mass_kg = p.volume_m3() * rho * 1000.0;
     let m_a_m = [0.3, 0.8, -0.5];
-    for dir in [[0.0, 0.0, 1.0], [0.6, 0.0, 0.8], [0.48, -0.6, 0.64], [1.0, 0.0, 0.0], [0.0, -0.6, -0.8]] {
+    for dir in [
+        [0.0, 0.0, 1.0],
+        [0.6, 0.0, 0.8],
+        [0.48, -0.6, 0.64],
+        [1.0, 0.0, 0.0],
+        [0.0, -0.6, -0.8],
+    ] {
         let d = 1.0e4 * size;
         let st = [c[0] + d * dir[0], c[1] + d * dir[1], c[2] + d * dir[2]];
         let r = [c[0] - st[0], c[1] - st[1], c[2] - st[2]]; // station → mass
         let r3 = norm(r).powi(3);
-        let g_point = [G * mass_kg * r[0] / r3 * 1e5, G * mass_kg * r[1] / r3 * 1e5, -G * mass_kg * r[2] / r3 * 1e5];
+        let g_point = [
+            G * mass_kg * r[0] / r3 * 1e5,
+            G * mass_kg * r[1] / r3 * 1e5,
+            -G * mass_kg * r[2] / r3 * 1e5,
+        ];
         let g = prism_gravity_mgal(&p, st, rho);
         for a in 0..3 {
-            assert!((g[a] - g_point[a]).abs() <= 1e-6 * norm(g_point), "{dir:?} {a}: {g:?} vs {g_point:?}");
+            assert!(
+                (g[a] - g_point[a]).abs() <= 1e-6 * norm(g_point),
+                "{dir:?} {a}: {g:?} vs {g_point:?}"
+            );
         }
         // Dipole of moment M·V at the centre; R from source to station.
         let rr = [-r[0], -r[1], -r[2]];
         let rn = norm(rr);
-        let mom = [m_a_m[0] * p.volume_m3(), m_a_m[1] * p.volume_m3(), m_a_m[2] * p.volume_m3()];
+        let mom = [
+            m_a_m[0] * p.volume_m3(),
+            m_a_m[1] * p.volume_m3(),
+            m_a_m[2] * p.volume_m3(),
+        ];
         let mdotr = (mom[0] * rr[0] + mom[1] * rr[1] + mom[2] * rr[2]) / rn;
-        let b_dip: Vec<f64> = (0..3).map(|a| 100.0 * (3.0 * mdotr * rr[a] / rn - mom[a]) / rn.powi(3)).collect();
+        let b_dip: Vec<f64> = (0..3)
+            .map(|a| 100.0 * (3.0 * mdotr * rr[a] / rn - mom[a]) / rn.powi(3))
+            .collect();
         let b = prism_field_nt(&p, st, m_a_m).unwrap();
         let bn = (b_dip[0].powi(2) + b_dip[1].powi(2) + b_dip[2].powi(2)).sqrt();
         for a in 0..3 {
-            assert!((b[a] - b_dip[a]).abs() <= 1e-6 * bn, "{dir:?} {a}: {b:?} vs {b_dip:?}");
+            assert!(
+                (b[a] - b_dip[a]).abs() <= 1e-6 * bn,
+                "{dir:?} {a}: {b:?} vs {b_dip:?}"
+            );
         }
         assert!(g.iter().chain(b.iter()).all(|v| v.is_finite()));
     }
@@ -119,8 +147,14 @@ fn a_wide_flat_prism_is_the_bouguer_slab() {
     let per_m_per_gcc = gz / (t * rho);
     assert!((per_m_per_gcc - 0.04193).abs() < 1e-5, "{per_m_per_gcc}");
     let exact = 2.0 * std::f64::consts::PI * G * 1000.0 * 1e5;
-    assert!(((per_m_per_gcc - exact) / exact).abs() < 1e-4, "{per_m_per_gcc} vs {exact}");
-    assert!(per_m_per_gcc < exact, "a finite slab attracts less than an infinite one");
+    assert!(
+        ((per_m_per_gcc - exact) / exact).abs() < 1e-4,
+        "{per_m_per_gcc} vs {exact}"
+    );
+    assert!(
+        per_m_per_gcc < exact,
+        "a finite slab attracts less than an infinite one"
+    );
 }
 
 /// Splits a prism at the given interior planes on each axis.
@@ -131,7 +165,11 @@ fn split(p: &Prism, cuts: [&[f64]; 3]) -> Vec<Prism> {
         v.push(b[1]);
         v
     };
-    let (xs, ys, zs) = (edges(p.x, cuts[0]), edges(p.y, cuts[1]), edges(p.z, cuts[2]));
+    let (xs, ys, zs) = (
+        edges(p.x, cuts[0]),
+        edges(p.y, cuts[1]),
+        edges(p.z, cuts[2]),
+    );
     let mut out = Vec::new();
     for x in xs.windows(2) {
         for y in ys.windows(2) {
@@ -174,14 +212,23 @@ fn superposition_of_eight_and_twenty_seven_sub_prisms() {
                 }
             }
             for a in 0..3 {
-                assert!((whole[a] - sum[a]).abs() <= 1e-10 * norm(whole), "{} parts, {st:?}, {a}: {whole:?} vs {sum:?}", parts.len());
+                assert!(
+                    (whole[a] - sum[a]).abs() <= 1e-10 * norm(whole),
+                    "{} parts, {st:?}, {a}: {whole:?} vs {sum:?}",
+                    parts.len()
+                );
             }
         }
     }
     // Magnetic superposition at stations off every sub-prism edge.
     let m = [0.2, 0.5, -1.0];
     for parts in [&eight, &twenty_seven] {
-        for st in [[171.0, 11.0, -99.0], [170.5, 60.0, -219.5], [2000.0, -1500.0, 100.0], [99.0, 10.5, -221.0]] {
+        for st in [
+            [171.0, 11.0, -99.0],
+            [170.5, 60.0, -219.5],
+            [2000.0, -1500.0, 100.0],
+            [99.0, 10.5, -221.0],
+        ] {
             let whole = prism_field_nt(&p, st, m).unwrap();
             let mut sum = [0.0; 3];
             for q in parts.iter() {
@@ -191,7 +238,11 @@ fn superposition_of_eight_and_twenty_seven_sub_prisms() {
                 }
             }
             for a in 0..3 {
-                assert!((whole[a] - sum[a]).abs() <= 1e-10 * norm(whole), "{} parts, {st:?}, {a}: {whole:?} vs {sum:?}", parts.len());
+                assert!(
+                    (whole[a] - sum[a]).abs() <= 1e-10 * norm(whole),
+                    "{} parts, {st:?}, {a}: {whole:?} vs {sum:?}",
+                    parts.len()
+                );
             }
         }
     }
@@ -203,20 +254,27 @@ fn values_on_faces_edges_and_vertices_are_finite_and_continuous() {
     // vertex equals the limit from just outside.
     let p = block();
     let cases = [
-        ([200.0, 0.0, -100.0], [0.0, 0.0, 1.0]),    // on the top face
-        ([100.0, 0.0, -250.0], [-1.0, 0.0, 0.0]),   // on the west face
+        ([200.0, 0.0, -100.0], [0.0, 0.0, 1.0]),  // on the top face
+        ([100.0, 0.0, -250.0], [-1.0, 0.0, 0.0]), // on the west face
         ([100.0, -50.0, -250.0], [-1.0, -1.0, 0.0]), // on a vertical edge
         ([100.0, -50.0, -100.0], [-1.0, -1.0, 1.0]), // on a vertex
-        ([200.0, 0.0, -400.0], [0.0, 0.0, -1.0]),   // on the bottom face
+        ([200.0, 0.0, -400.0], [0.0, 0.0, -1.0]), // on the bottom face
     ];
     for (st, out) in cases {
         let on = prism_gravity_mgal(&p, st, 1.0);
         let eps = 1e-6;
-        let near = [st[0] + eps * out[0], st[1] + eps * out[1], st[2] + eps * out[2]];
+        let near = [
+            st[0] + eps * out[0],
+            st[1] + eps * out[1],
+            st[2] + eps * out[2],
+        ];
         let off = prism_gravity_mgal(&p, near, 1.0);
         assert!(on.iter().all(|v| v.is_finite()), "{st:?}: {on:?}");
         for a in 0..3 {
-            assert!((on[a] - off[a]).abs() <= 1e-5 * norm(on), "{st:?} {a}: {on:?} vs {off:?}");
+            assert!(
+                (on[a] - off[a]).abs() <= 1e-5 * norm(on),
+                "{st:?} {a}: {on:?} vs {off:?}"
+            );
         }
     }
     // Very near (a micrometre off the top face) and very far are finite.
@@ -230,7 +288,10 @@ fn values_on_faces_edges_and_vertices_are_finite_and_continuous() {
     assert!(on[0].abs() < 1e-9 && above[0].abs() < 1e-9);
     // B_z jumps by μ₀M_z = 4π·100 nT per A/m across the face; on it we get the
     // mean, so the value just above minus the value on it is half the jump.
-    assert!(((above[2] - on[2]) - 0.5 * 4.0 * std::f64::consts::PI * 100.0).abs() < 1e-3, "{on:?} {above:?}");
+    assert!(
+        ((above[2] - on[2]) - 0.5 * 4.0 * std::f64::consts::PI * 100.0).abs() < 1e-3,
+        "{on:?} {above:?}"
+    );
 }
 
 #[test]
@@ -241,20 +302,34 @@ fn signs_and_symmetry() {
     assert!(prism_gz_mgal(&p, [0.0, 0.0, 0.0], -0.2) < 0.0);
     // Mirror symmetry of g_z.
     let a = prism_gz_mgal(&p, [37.0, 11.0, 5.0], 1.0);
-    for st in [[-37.0, 11.0, 5.0], [37.0, -11.0, 5.0], [11.0, 37.0, 5.0], [-11.0, -37.0, 5.0]] {
+    for st in [
+        [-37.0, 11.0, 5.0],
+        [37.0, -11.0, 5.0],
+        [11.0, 37.0, 5.0],
+        [-11.0, -37.0, 5.0],
+    ] {
         assert!((prism_gz_mgal(&p, st, 1.0) - a).abs() < 1e-13 * a.abs());
     }
     // At the pole (I = 90°) an induced, vertically magnetized square prism has
     // a TMI symmetric about its vertical axis (fourfold and mirror), positive
     // over the centre (Blakely 1995, Fig. 4.x pattern at the pole).
-    let field = InducingField { intensity_nt: 60_000.0, inclination_deg: 90.0, declination_deg: 0.0 };
+    let field = InducingField {
+        intensity_nt: 60_000.0,
+        inclination_deg: 90.0,
+        declination_deg: 0.0,
+    };
     let m = field.induced_magnetization(0.05);
     let f = field.unit();
     let tmi = |st: [f64; 3]| tmi_nt(prism_field_nt(&p, st, m).unwrap(), f);
     let t0 = tmi([0.0, 0.0, 0.0]);
     assert!(t0 > 0.0);
     let t = tmi([30.0, 12.0, 0.0]);
-    for st in [[-30.0, 12.0, 0.0], [30.0, -12.0, 0.0], [12.0, 30.0, 0.0], [-12.0, -30.0, 0.0]] {
+    for st in [
+        [-30.0, 12.0, 0.0],
+        [30.0, -12.0, 0.0],
+        [12.0, 30.0, 0.0],
+        [-12.0, -30.0, 0.0],
+    ] {
         assert!((tmi(st) - t).abs() < 1e-10 * t0.abs(), "{st:?}");
     }
 }
@@ -270,7 +345,9 @@ fn a_sphere_of_small_prisms_approaches_the_dipole_and_the_point_mass() {
     let m = [0.0, 0.7, -1.2]; // A/m
     let rho = 0.4;
     let volume = 4.0 / 3.0 * std::f64::consts::PI * radius.powi(3);
-    let stations: Vec<[f64; 3]> = (-10..=10).map(|i| [i as f64 * 30.0, 0.5 * i as f64 * 30.0, 0.0]).collect();
+    let stations: Vec<[f64; 3]> = (-10..=10)
+        .map(|i| [i as f64 * 30.0, 0.5 * i as f64 * 30.0, 0.0])
+        .collect();
     let exact: Vec<([f64; 3], f64)> = stations
         .iter()
         .map(|st| {
@@ -292,9 +369,20 @@ fn a_sphere_of_small_prisms_approaches_the_dipole_and_the_point_mass() {
         for i in -(n as i64)..(n as i64) {
             for j in -(n as i64)..(n as i64) {
                 for k in -(n as i64)..(n as i64) {
-                    let cc = [(i as f64 + 0.5) * h, (j as f64 + 0.5) * h, (k as f64 + 0.5) * h];
+                    let cc = [
+                        (i as f64 + 0.5) * h,
+                        (j as f64 + 0.5) * h,
+                        (k as f64 + 0.5) * h,
+                    ];
                     if norm(cc) <= radius {
-                        cubes.push(Prism::new([c[0] + cc[0] - h / 2.0, c[0] + cc[0] + h / 2.0], [c[1] + cc[1] - h / 2.0, c[1] + cc[1] + h / 2.0], [c[2] + cc[2] - h / 2.0, c[2] + cc[2] + h / 2.0]).unwrap());
+                        cubes.push(
+                            Prism::new(
+                                [c[0] + cc[0] - h / 2.0, c[0] + cc[0] + h / 2.0],
+                                [c[1] + cc[1] - h / 2.0, c[1] + cc[1] + h / 2.0],
+                                [c[2] + cc[2] - h / 2.0, c[2] + cc[2] + h / 2.0],
+                            )
+                            .unwrap(),
+                        );
                     }
                 }
             }
@@ -317,8 +405,14 @@ fn a_sphere_of_small_prisms_approaches_the_dipole_and_the_point_mass() {
         errors.push((n, eb, eg));
     }
     for w in errors.windows(2) {
-        assert!(w[1].1 < w[0].1 && w[1].2 < w[0].2, "errors do not fall with refinement: {errors:?}");
+        assert!(
+            w[1].1 < w[0].1 && w[1].2 < w[0].2,
+            "errors do not fall with refinement: {errors:?}"
+        );
     }
     let (_, eb, eg) = *errors.last().unwrap();
-    assert!(eb < 0.01 && eg < 0.01, "finest discretisation still {eb} (B), {eg} (g_z) off: {errors:?}");
+    assert!(
+        eb < 0.01 && eg < 0.01,
+        "finest discretisation still {eb} (B), {eg} (g_z) off: {errors:?}"
+    );
 }

@@ -36,11 +36,24 @@ pub const MAX_SUSCEPTIBILITY_SI: f64 = 20.0;
 #[derive(Debug, Error)]
 pub enum BodyFileError {
     #[error("cannot read body file {file}: {source}")]
-    Read { file: PathBuf, source: std::io::Error },
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
     #[error("{file}: at {path} (line {line}, column {column}): {message}")]
-    Syntax { file: PathBuf, path: String, line: usize, column: usize, message: String },
+    Syntax {
+        file: PathBuf,
+        path: String,
+        line: usize,
+        column: usize,
+        message: String,
+    },
     #[error("{file}: at {path}: {message}")]
-    Invalid { file: PathBuf, path: String, message: String },
+    Invalid {
+        file: PathBuf,
+        path: String,
+        message: String,
+    },
 }
 
 #[derive(Debug, Deserialize)]
@@ -83,7 +96,10 @@ pub struct BodyFile {
 
 /// Reads and checks a body file.
 pub fn read_body_file(path: &Path) -> Result<BodyFile, BodyFileError> {
-    let text = std::fs::read(path).map_err(|source| BodyFileError::Read { file: path.to_path_buf(), source })?;
+    let text = std::fs::read(path).map_err(|source| BodyFileError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
     parse_body_file(crate::io::text::strip_bom(&text), path)
 }
 
@@ -93,7 +109,13 @@ pub fn parse_body_file(bytes: &[u8], file: &Path) -> Result<BodyFile, BodyFileEr
     let spec: FileSpec = serde_path_to_error::deserialize(&mut de).map_err(|e| {
         let path = e.path().to_string();
         let inner = e.into_inner();
-        BodyFileError::Syntax { file: file.to_path_buf(), path, line: inner.line(), column: inner.column(), message: inner.to_string() }
+        BodyFileError::Syntax {
+            file: file.to_path_buf(),
+            path,
+            line: inner.line(),
+            column: inner.column(),
+            message: inner.to_string(),
+        }
     })?;
     de.end().map_err(|e| BodyFileError::Syntax {
         file: file.to_path_buf(),
@@ -106,10 +128,15 @@ pub fn parse_body_file(bytes: &[u8], file: &Path) -> Result<BodyFile, BodyFileEr
 }
 
 fn build(spec: FileSpec, file: &Path) -> Result<BodyFile, BodyFileError> {
-    let invalid = |path: String, message: String| BodyFileError::Invalid { file: file.to_path_buf(), path, message };
+    let invalid = |path: String, message: String| BodyFileError::Invalid {
+        file: file.to_path_buf(),
+        path,
+        message,
+    };
     let mut notes = Vec::new();
     if let Some(f) = &spec.inducing_field {
-        check_direction("inducing_field", f.inclination_deg, f.declination_deg).map_err(|(p, m)| invalid(p, m))?;
+        check_direction("inducing_field", f.inclination_deg, f.declination_deg)
+            .map_err(|(p, m)| invalid(p, m))?;
         if !(f.intensity_nt.is_finite() && f.intensity_nt > 0.0 && f.intensity_nt < 100_000.0) {
             return Err(invalid(
                 "inducing_field.intensity_nt".into(),
@@ -118,16 +145,24 @@ fn build(spec: FileSpec, file: &Path) -> Result<BodyFile, BodyFileError> {
         }
     }
     if spec.bodies.is_empty() {
-        return Err(invalid("bodies".into(), "the list is empty; give at least one body".into()));
+        return Err(invalid(
+            "bodies".into(),
+            "the list is empty; give at least one body".into(),
+        ));
     }
     let mut bodies = Vec::with_capacity(spec.bodies.len());
     for (i, b) in spec.bodies.into_iter().enumerate() {
         let at = |field: &str| format!("bodies[{i}].{field}");
         let name = b.name.clone().unwrap_or_else(|| format!("body {}", i + 1));
-        let prism = Prism { x: b.prism.x, y: b.prism.y, z: b.prism.z };
+        let prism = Prism {
+            x: b.prism.x,
+            y: b.prism.y,
+            z: b.prism.z,
+        };
         if let Err(e) = prism.validate() {
             let axis = match e {
-                crate::physics::PrismError::NotFinite { axis, .. } | crate::physics::PrismError::NotIncreasing { axis, .. } => axis,
+                crate::physics::PrismError::NotFinite { axis, .. }
+                | crate::physics::PrismError::NotIncreasing { axis, .. } => axis,
             };
             return Err(invalid(at(&format!("prism.{axis}")), e.to_string()));
         }
@@ -170,17 +205,34 @@ fn build(spec: FileSpec, file: &Path) -> Result<BodyFile, BodyFileError> {
             }
             (None, None, _) => None,
         };
-        bodies.push(Body { name, prism, density_g_cc: density, magnetization_a_m: magnetization });
+        bodies.push(Body {
+            name,
+            prism,
+            density_g_cc: density,
+            magnetization_a_m: magnetization,
+        });
     }
-    Ok(BodyFile { model: ForwardModel { bodies, inducing_field: spec.inducing_field }, notes })
+    Ok(BodyFile {
+        model: ForwardModel {
+            bodies,
+            inducing_field: spec.inducing_field,
+        },
+        notes,
+    })
 }
 
 fn check_direction(path: &str, inc: f64, dec: f64) -> Result<(), (String, String)> {
     if !inc.is_finite() || !(-90.0..=90.0).contains(&inc) {
-        return Err((format!("{path}.inclination_deg"), format!("{inc} is outside −90° to 90°")));
+        return Err((
+            format!("{path}.inclination_deg"),
+            format!("{inc} is outside −90° to 90°"),
+        ));
     }
     if !dec.is_finite() || !(-360.0..=360.0).contains(&dec) {
-        return Err((format!("{path}.declination_deg"), format!("{dec} is outside −360° to 360°")));
+        return Err((
+            format!("{path}.declination_deg"),
+            format!("{dec} is outside −360° to 360°"),
+        ));
     }
     Ok(())
 }
@@ -217,7 +269,10 @@ mod tests {
 
     #[test]
     fn unknown_keys_are_named_with_their_path() {
-        let e = parse(r#"{"bodies": [{"prism": {"x": [0, 1], "y": [0, 1], "z": [0, 1]}, "densty": 1}]}"#).unwrap_err();
+        let e = parse(
+            r#"{"bodies": [{"prism": {"x": [0, 1], "y": [0, 1], "z": [0, 1]}, "densty": 1}]}"#,
+        )
+        .unwrap_err();
         let s = e.to_string();
         assert!(s.contains("bodies[0]") && s.contains("densty"), "{s}");
     }
@@ -230,9 +285,15 @@ mod tests {
 
     #[test]
     fn wrong_types_and_syntax_give_line_and_path() {
-        let e = parse("{\"bodies\": [\n {\"prism\": {\"x\": [0, \"a\"], \"y\": [0, 1], \"z\": [0, 1]}}]}").unwrap_err();
+        let e = parse(
+            "{\"bodies\": [\n {\"prism\": {\"x\": [0, \"a\"], \"y\": [0, 1], \"z\": [0, 1]}}]}",
+        )
+        .unwrap_err();
         let s = e.to_string();
-        assert!(s.contains("bodies[0].prism.x") && s.contains("line 2"), "{s}");
+        assert!(
+            s.contains("bodies[0].prism.x") && s.contains("line 2"),
+            "{s}"
+        );
         let e = parse("{\"bodies\": [").unwrap_err();
         assert!(matches!(e, BodyFileError::Syntax { .. }), "{e}");
     }
@@ -254,9 +315,15 @@ mod tests {
 
     #[test]
     fn empty_body_lists_and_bad_fields_are_refused() {
-        assert!(parse(r#"{"bodies": []}"#).unwrap_err().to_string().contains("empty"));
+        assert!(parse(r#"{"bodies": []}"#)
+            .unwrap_err()
+            .to_string()
+            .contains("empty"));
         let e = parse(r#"{"inducing_field": {"intensity_nt": 55000, "inclination_deg": 120, "declination_deg": 0}, "bodies": [{"prism": {"x": [0, 1], "y": [0, 1], "z": [0, 1]}}]}"#).unwrap_err();
-        assert!(e.to_string().contains("inducing_field.inclination_deg"), "{e}");
+        assert!(
+            e.to_string().contains("inducing_field.inclination_deg"),
+            "{e}"
+        );
         assert!(parse("").is_err());
         assert!(parse("{\"bodies\": []} trailing").is_err());
     }

@@ -47,9 +47,21 @@ pub struct StationField {
 #[derive(Debug, Error, PartialEq)]
 pub enum FieldError {
     #[error("station {station} at ({x}, {y}, {z}) lies on an edge of body '{body}', where the magnetic field is infinite; move the station off the edge")]
-    OnEdge { station: usize, body: String, x: f64, y: f64, z: f64 },
+    OnEdge {
+        station: usize,
+        body: String,
+        x: f64,
+        y: f64,
+        z: f64,
+    },
     #[error("station {station} at ({x}, {y}, {z}) lies inside magnetized body '{body}'; the forward command computes fields outside bodies only")]
-    InsideMagnetized { station: usize, body: String, x: f64, y: f64, z: f64 },
+    InsideMagnetized {
+        station: usize,
+        body: String,
+        x: f64,
+        y: f64,
+        z: f64,
+    },
 }
 
 impl ForwardModel {
@@ -73,11 +85,23 @@ impl ForwardModel {
                 let at = |body: &Body| (station, body.name.clone(), p[0], p[1], p[2]);
                 if body.prism.contains_strictly(p) {
                     let (station, body, x, y, z) = at(body);
-                    return Err(FieldError::InsideMagnetized { station, body, x, y, z });
+                    return Err(FieldError::InsideMagnetized {
+                        station,
+                        body,
+                        x,
+                        y,
+                        z,
+                    });
                 }
                 let Some(bb) = magnetic::prism_field_nt(&body.prism, p, m) else {
                     let (station, body, x, y, z) = at(body);
-                    return Err(FieldError::OnEdge { station, body, x, y, z });
+                    return Err(FieldError::OnEdge {
+                        station,
+                        body,
+                        x,
+                        y,
+                        z,
+                    });
                 };
                 for a in 0..3 {
                     b[a] += bb[a];
@@ -88,13 +112,21 @@ impl ForwardModel {
             Some(f) => (Some(b), Some(magnetic::tmi_nt(b, f.unit()))),
             None => (None, None),
         };
-        Ok(StationField { gz_mgal: gz, b_nt, tmi_nt })
+        Ok(StationField {
+            gz_mgal: gz,
+            b_nt,
+            tmi_nt,
+        })
     }
 
     /// The fields at every station, in parallel. The first failing station
     /// (lowest index) is reported.
     pub fn evaluate(&self, stations: &[[f64; 3]]) -> Result<Vec<StationField>, FieldError> {
-        let each: Vec<Result<StationField, FieldError>> = stations.par_iter().enumerate().map(|(i, &p)| self.field_at(i, p)).collect();
+        let each: Vec<Result<StationField, FieldError>> = stations
+            .par_iter()
+            .enumerate()
+            .map(|(i, &p)| self.field_at(i, p))
+            .collect();
         each.into_iter().collect()
     }
 }

@@ -14,25 +14,56 @@ use thiserror::Error;
 #[derive(Debug, Error)]
 pub enum StationsError {
     #[error("cannot read station file {file}: {source}")]
-    Read { file: PathBuf, source: std::io::Error },
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
     #[error("{file}: the file is empty; expected a header row with x, y, z")]
     Empty { file: PathBuf },
     #[error("{file}: the header has no column named '{name}' (found: {found}); the station file needs x, y, z in metres")]
-    MissingColumn { file: PathBuf, name: &'static str, found: String },
+    MissingColumn {
+        file: PathBuf,
+        name: &'static str,
+        found: String,
+    },
     #[error("{file}: line 1: column name '{name}' appears more than once (columns {first} and {second})")]
-    DuplicateColumn { file: PathBuf, name: String, first: usize, second: usize },
+    DuplicateColumn {
+        file: PathBuf,
+        name: String,
+        first: usize,
+        second: usize,
+    },
     #[error("{file}: line 1: the input already has a column '{name}', which the output would add again; rename it")]
     OutputNameTaken { file: PathBuf, name: String },
     #[error("{file}: the header is the only row; there are no stations")]
     NoRows { file: PathBuf },
     #[error("{file}: line {line}: expected {expected} fields as in the header, found {found}")]
-    Ragged { file: PathBuf, line: u64, expected: u64, found: u64 },
+    Ragged {
+        file: PathBuf,
+        line: u64,
+        expected: u64,
+        found: u64,
+    },
     #[error("{file}: line {line}, column '{column}': '{text}' is not a number")]
-    NotNumber { file: PathBuf, line: u64, column: String, text: String },
+    NotNumber {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        text: String,
+    },
     #[error("{file}: line {line}, column '{column}': the value is missing or a dummy ('{text}'); a station needs x, y and z")]
-    Missing { file: PathBuf, line: u64, column: String, text: String },
+    Missing {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        text: String,
+    },
     #[error("{file}: line {line}: {message}")]
-    Csv { file: PathBuf, line: u64, message: String },
+    Csv {
+        file: PathBuf,
+        line: u64,
+        message: String,
+    },
 }
 
 /// A station table: raw header and rows (kept for pass-through) and the parsed
@@ -66,45 +97,79 @@ fn sniff_delimiter(bytes: &[u8]) -> u8 {
 
 /// Reads a station table from a file.
 pub fn read_stations(path: &Path, output_columns: &[&str]) -> Result<StationTable, StationsError> {
-    let bytes = std::fs::read(path).map_err(|source| StationsError::Read { file: path.to_path_buf(), source })?;
+    let bytes = std::fs::read(path).map_err(|source| StationsError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
     parse_stations(&bytes, path, output_columns)
 }
 
 /// Parses a station table; `output_columns` are the names the output will add,
 /// which must not already be present.
-pub fn parse_stations(bytes: &[u8], file: &Path, output_columns: &[&str]) -> Result<StationTable, StationsError> {
+pub fn parse_stations(
+    bytes: &[u8],
+    file: &Path,
+    output_columns: &[&str],
+) -> Result<StationTable, StationsError> {
     let file_buf = file.to_path_buf();
     let bytes = strip_bom(bytes);
     if bytes.iter().all(|b| b.is_ascii_whitespace()) {
         return Err(StationsError::Empty { file: file_buf });
     }
     let delimiter = sniff_delimiter(bytes);
-    let mut rdr = csv::ReaderBuilder::new().delimiter(delimiter).comment(Some(b'#')).has_headers(true).flexible(false).from_reader(bytes);
+    let mut rdr = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .comment(Some(b'#'))
+        .has_headers(true)
+        .flexible(false)
+        .from_reader(bytes);
     let csv_err = |e: csv::Error| match e.kind() {
-        csv::ErrorKind::UnequalLengths { pos, expected_len, len } => StationsError::Ragged {
+        csv::ErrorKind::UnequalLengths {
+            pos,
+            expected_len,
+            len,
+        } => StationsError::Ragged {
             file: file_buf.clone(),
             line: pos.as_ref().map(|p| p.line()).unwrap_or(0),
             expected: *expected_len,
             found: *len,
         },
-        _ => StationsError::Csv { file: file_buf.clone(), line: e.position().map(|p| p.line()).unwrap_or(0), message: e.to_string() },
+        _ => StationsError::Csv {
+            file: file_buf.clone(),
+            line: e.position().map(|p| p.line()).unwrap_or(0),
+            message: e.to_string(),
+        },
     };
     let header = rdr.byte_headers().map_err(csv_err)?.clone();
-    let names: Vec<String> = header.iter().map(|h| decode_lossless_enough(h).trim().to_string()).collect();
+    let names: Vec<String> = header
+        .iter()
+        .map(|h| decode_lossless_enough(h).trim().to_string())
+        .collect();
     for (i, n) in names.iter().enumerate() {
         if let Some(j) = names[..i].iter().position(|m| m.eq_ignore_ascii_case(n)) {
-            return Err(StationsError::DuplicateColumn { file: file_buf, name: n.clone(), first: j + 1, second: i + 1 });
+            return Err(StationsError::DuplicateColumn {
+                file: file_buf,
+                name: n.clone(),
+                first: j + 1,
+                second: i + 1,
+            });
         }
         if output_columns.iter().any(|o| o.eq_ignore_ascii_case(n)) {
-            return Err(StationsError::OutputNameTaken { file: file_buf, name: n.clone() });
+            return Err(StationsError::OutputNameTaken {
+                file: file_buf,
+                name: n.clone(),
+            });
         }
     }
     let find = |name: &'static str| {
-        names.iter().position(|n| n.eq_ignore_ascii_case(name)).ok_or_else(|| StationsError::MissingColumn {
-            file: file.to_path_buf(),
-            name,
-            found: names.join(", "),
-        })
+        names
+            .iter()
+            .position(|n| n.eq_ignore_ascii_case(name))
+            .ok_or_else(|| StationsError::MissingColumn {
+                file: file.to_path_buf(),
+                name,
+                found: names.join(", "),
+            })
     };
     let cols = [find("x")?, find("y")?, find("z")?];
     let mut rows = Vec::new();
@@ -123,12 +188,28 @@ pub fn parse_stations(bytes: &[u8], file: &Path, output_columns: &[&str]) -> Res
             let raw = rec.get(c).unwrap_or(b"");
             let text = decode_lossless_enough(raw);
             let t = text.trim();
-            if t.is_empty() || t == "*" || t.eq_ignore_ascii_case("nan") || t.eq_ignore_ascii_case("na") {
-                return Err(StationsError::Missing { file: file_buf, line, column: names[c].clone(), text: t.to_string() });
+            if t.is_empty()
+                || t == "*"
+                || t.eq_ignore_ascii_case("nan")
+                || t.eq_ignore_ascii_case("na")
+            {
+                return Err(StationsError::Missing {
+                    file: file_buf,
+                    line,
+                    column: names[c].clone(),
+                    text: t.to_string(),
+                });
             }
             match t.parse::<f64>() {
                 Ok(v) if v.is_finite() => p[a] = v,
-                _ => return Err(StationsError::NotNumber { file: file_buf, line, column: names[c].clone(), text: t.to_string() }),
+                _ => {
+                    return Err(StationsError::NotNumber {
+                        file: file_buf,
+                        line,
+                        column: names[c].clone(),
+                        text: t.to_string(),
+                    })
+                }
             }
         }
         positions.push(p);
@@ -138,7 +219,13 @@ pub fn parse_stations(bytes: &[u8], file: &Path, output_columns: &[&str]) -> Res
     if rows.is_empty() {
         return Err(StationsError::NoRows { file: file_buf });
     }
-    Ok(StationTable { header, rows, positions, lines, delimiter })
+    Ok(StationTable {
+        header,
+        rows,
+        positions,
+        lines,
+        delimiter,
+    })
 }
 
 /// Writes the table with extra numeric columns appended: `extra_names` in the
@@ -195,9 +282,15 @@ mod tests {
     #[test]
     fn errors_name_file_line_and_column() {
         let e = parse(b"x,y,z\n1,2,3\n1,zz,3\n").unwrap_err().to_string();
-        assert!(e.contains("st.csv") && e.contains("line 3") && e.contains("'y'") && e.contains("zz"), "{e}");
+        assert!(
+            e.contains("st.csv") && e.contains("line 3") && e.contains("'y'") && e.contains("zz"),
+            "{e}"
+        );
         let e = parse(b"x,y,z\n1,2,3\n1,2\n").unwrap_err().to_string();
-        assert!(e.contains("line 3") && e.contains("expected 3") && e.contains("found 2"), "{e}");
+        assert!(
+            e.contains("line 3") && e.contains("expected 3") && e.contains("found 2"),
+            "{e}"
+        );
         let e = parse(b"x,y,h\n1,2,3\n").unwrap_err().to_string();
         assert!(e.contains("'z'") && e.contains("x, y, h"), "{e}");
         let e = parse(b"x,y,z\n1,,3\n").unwrap_err().to_string();
@@ -205,9 +298,18 @@ mod tests {
         let e = parse(b"x,y,z\n1,2,inf\n").unwrap_err().to_string();
         assert!(e.contains("not a number"), "{e}");
         assert!(matches!(parse(b""), Err(StationsError::Empty { .. })));
-        assert!(matches!(parse(b"x,y,z\n"), Err(StationsError::NoRows { .. })));
-        assert!(matches!(parse(b"x,y,z,X\n1,2,3,4\n"), Err(StationsError::DuplicateColumn { .. })));
-        assert!(matches!(parse(b"x,y,z,gz_mgal\n1,2,3,4\n"), Err(StationsError::OutputNameTaken { .. })));
+        assert!(matches!(
+            parse(b"x,y,z\n"),
+            Err(StationsError::NoRows { .. })
+        ));
+        assert!(matches!(
+            parse(b"x,y,z,X\n1,2,3,4\n"),
+            Err(StationsError::DuplicateColumn { .. })
+        ));
+        assert!(matches!(
+            parse(b"x,y,z,gz_mgal\n1,2,3,4\n"),
+            Err(StationsError::OutputNameTaken { .. })
+        ));
     }
 
     #[test]

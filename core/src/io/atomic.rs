@@ -23,7 +23,10 @@ pub struct WriteError {
 /// The temporary path used while writing `dest`: a hidden sibling with the
 /// process id, so two processes never share one.
 pub fn temp_path_for(dest: &Path) -> PathBuf {
-    let name = dest.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "output".into());
+    let name = dest
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "output".into());
     let tmp = format!(".{name}.tmp-{}", std::process::id());
     match dest.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.join(tmp),
@@ -34,12 +37,18 @@ pub fn temp_path_for(dest: &Path) -> PathBuf {
 /// Writes `dest` atomically with the bytes produced by `fill`. If `fill` or
 /// any file operation fails, `dest` is untouched and no temporary file is left.
 /// The error from `fill` is passed through as `E`; file errors are converted.
-pub fn write_atomically<E>(dest: &Path, fill: impl FnOnce(&mut dyn Write) -> Result<(), E>) -> Result<(), E>
+pub fn write_atomically<E>(
+    dest: &Path,
+    fill: impl FnOnce(&mut dyn Write) -> Result<(), E>,
+) -> Result<(), E>
 where
     E: From<WriteError>,
 {
     let tmp = temp_path_for(dest);
-    let wrap = |source: io::Error| WriteError { path: dest.to_path_buf(), source };
+    let wrap = |source: io::Error| WriteError {
+        path: dest.to_path_buf(),
+        source,
+    };
     let result = (|| {
         let file = File::create(&tmp).map_err(wrap)?;
         let mut w = BufWriter::new(file);
@@ -61,7 +70,8 @@ mod tests {
     use super::*;
 
     fn scratch_dir(name: &str) -> PathBuf {
-        let d = std::env::temp_dir().join(format!("fieldstone-atomic-{name}-{}", std::process::id()));
+        let d =
+            std::env::temp_dir().join(format!("fieldstone-atomic-{name}-{}", std::process::id()));
         let _ = fs::remove_dir_all(&d);
         fs::create_dir_all(&d).unwrap();
         d
@@ -74,11 +84,18 @@ mod tests {
         fs::write(&dest, b"old").unwrap();
         let r: Result<(), WriteError> = write_atomically(&dest, |w| {
             w.write_all(b"partial new content").unwrap();
-            Err(WriteError { path: dest.clone(), source: io::Error::other("simulated") })
+            Err(WriteError {
+                path: dest.clone(),
+                source: io::Error::other("simulated"),
+            })
         });
         assert!(r.is_err());
         assert_eq!(fs::read(&dest).unwrap(), b"old");
-        assert_eq!(fs::read_dir(&d).unwrap().count(), 1, "temporary file left behind");
+        assert_eq!(
+            fs::read_dir(&d).unwrap().count(),
+            1,
+            "temporary file left behind"
+        );
         fs::remove_dir_all(&d).unwrap();
     }
 
@@ -87,7 +104,13 @@ mod tests {
         let d = scratch_dir("ok");
         let dest = d.join("out.csv");
         fs::write(&dest, b"old").unwrap();
-        write_atomically::<WriteError>(&dest, |w| w.write_all(b"new").map_err(|source| WriteError { path: dest.clone(), source })).unwrap();
+        write_atomically::<WriteError>(&dest, |w| {
+            w.write_all(b"new").map_err(|source| WriteError {
+                path: dest.clone(),
+                source,
+            })
+        })
+        .unwrap();
         assert_eq!(fs::read(&dest).unwrap(), b"new");
         assert_eq!(fs::read_dir(&d).unwrap().count(), 1);
         fs::remove_dir_all(&d).unwrap();
@@ -95,7 +118,9 @@ mod tests {
 
     #[test]
     fn a_missing_folder_is_reported_with_the_path() {
-        let dest = std::env::temp_dir().join("fieldstone-no-such-folder-xyz").join("out.csv");
+        let dest = std::env::temp_dir()
+            .join("fieldstone-no-such-folder-xyz")
+            .join("out.csv");
         let e = write_atomically::<WriteError>(&dest, |_| Ok(())).unwrap_err();
         assert!(e.to_string().contains("out.csv"), "{e}");
     }

@@ -153,9 +153,15 @@ mod tests {
             (1.0, 0.0, 0.0),
         ];
         for &(x, y, z) in &cases {
-            assert!(gravity_phi(x, y, z).iter().all(|v| v.is_finite()), "{x} {y} {z}");
+            assert!(
+                gravity_phi(x, y, z).iter().all(|v| v.is_finite()),
+                "{x} {y} {z}"
+            );
             assert!(gravity_phi_z(x, y, z).is_finite());
-            assert!(magnetic_terms(x, y, z).unwrap().iter().all(|v| v.is_finite()));
+            assert!(magnetic_terms(x, y, z)
+                .unwrap()
+                .iter()
+                .all(|v| v.is_finite()));
         }
         assert_eq!(gravity_phi(0.0, 0.0, 0.0), [0.0; 3]);
         assert!(magnetic_terms(0.0, 0.0, 0.0).is_none());

@@ -100,7 +100,11 @@ mod tests {
         let c = p.centre();
         let near = [c[0] + d * 0.6, c[1] + d * 0.5, c[2] + d * 0.62];
         let scale = (near[0] - c[0]).hypot(near[1] - c[1]).hypot(near[2] - c[2]) / d;
-        let inside = [c[0] + (near[0] - c[0]) / scale * 0.999_999, c[1] + (near[1] - c[1]) / scale * 0.999_999, c[2] + (near[2] - c[2]) / scale * 0.999_999];
+        let inside = [
+            c[0] + (near[0] - c[0]) / scale * 0.999_999,
+            c[1] + (near[1] - c[1]) / scale * 0.999_999,
+            c[2] + (near[2] - c[2]) / scale * 0.999_999,
+        ];
         assert!(!p.is_far_from(inside));
         let closed = prism_gravity_mgal(&p, inside, 1.0);
         let cub = {
@@ -110,7 +114,10 @@ mod tests {
         };
         let norm = closed.iter().map(|v| v * v).sum::<f64>().sqrt();
         for a in 0..3 {
-            assert!((closed[a] - cub[a]).abs() < 1e-9 * norm, "{closed:?} vs {cub:?}");
+            assert!(
+                (closed[a] - cub[a]).abs() < 1e-9 * norm,
+                "{closed:?} vs {cub:?}"
+            );
         }
     }
 }

@@ -20,7 +20,9 @@
 //! face (off its edges) it returns the mean of the inside and outside limits.
 
 use super::{corner, quadrature, Prism};
-use crate::units::{direction_from_inclination_declination, induced_magnetization_a_m, MAG_KERNEL_TO_NT_PER_A_M};
+use crate::units::{
+    direction_from_inclination_declination, induced_magnetization_a_m, MAG_KERNEL_TO_NT_PER_A_M,
+};
 use serde::{Deserialize, Serialize};
 
 /// Symmetric 3×3 shape tensor stored as [xx, yy, zz, xy, xz, yz].
@@ -83,7 +85,11 @@ impl Magnetization {
     /// The vector in A/m in the project frame.
     pub fn vector_a_m(&self) -> [f64; 3] {
         let u = direction_from_inclination_declination(self.inclination_deg, self.declination_deg);
-        [self.intensity_am * u[0], self.intensity_am * u[1], self.intensity_am * u[2]]
+        [
+            self.intensity_am * u[0],
+            self.intensity_am * u[1],
+            self.intensity_am * u[2],
+        ]
     }
 }
 
@@ -146,7 +152,11 @@ fn far_field_tensor(prism: &Prism, station: [f64; 3]) -> ShapeTensor {
 pub fn prism_field_nt(prism: &Prism, station: [f64; 3], m_a_m: [f64; 3]) -> Option<[f64; 3]> {
     let t = prism_shape_tensor(prism, station)?;
     let b = t.apply(m_a_m);
-    Some([b[0] * MAG_KERNEL_TO_NT_PER_A_M, b[1] * MAG_KERNEL_TO_NT_PER_A_M, b[2] * MAG_KERNEL_TO_NT_PER_A_M])
+    Some([
+        b[0] * MAG_KERNEL_TO_NT_PER_A_M,
+        b[1] * MAG_KERNEL_TO_NT_PER_A_M,
+        b[2] * MAG_KERNEL_TO_NT_PER_A_M,
+    ])
 }
 
 /// Total-field anomaly (nT): projection of `b_nt` on the unit vector `field_unit`.
@@ -161,7 +171,12 @@ mod tests {
     #[test]
     fn trace_is_zero_outside_and_minus_four_pi_inside() {
         let p = Prism::new([-5.0, 15.0], [-10.0, 10.0], [-40.0, -8.0]).unwrap();
-        for st in [[0.0, 0.0, 0.0], [30.0, -4.0, -20.0], [1.0, 2.0, -50.0], [3.0, 1.0, -8.0 + 1e-9]] {
+        for st in [
+            [0.0, 0.0, 0.0],
+            [30.0, -4.0, -20.0],
+            [1.0, 2.0, -50.0],
+            [3.0, 1.0, -8.0 + 1e-9],
+        ] {
             let t = prism_shape_tensor(&p, st).unwrap();
             assert!(t.trace().abs() < 1e-12, "{st:?}: {}", t.trace());
         }
@@ -176,7 +191,10 @@ mod tests {
         assert!(on_edge(&p, [1.0, 1.0, -0.3]));
         assert!(prism_shape_tensor(&p, [1.0, 1.0, 0.0]).is_none());
         assert!(!on_edge(&p, [0.5, 0.5, 0.0]));
-        assert!(!on_edge(&p, [0.0, 2.0, 0.0]), "edge extension is not an edge");
+        assert!(
+            !on_edge(&p, [0.0, 2.0, 0.0]),
+            "edge extension is not an edge"
+        );
         let t = prism_shape_tensor(&p, [0.0, 2.0, 0.0]).unwrap();
         assert!(t.0.iter().all(|v| v.is_finite()));
     }

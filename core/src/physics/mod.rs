@@ -98,7 +98,8 @@ impl Prism {
     /// Gauss–Legendre cubature loses to truncation. See [`quadrature`].
     pub(crate) fn is_far_from(&self, station: [f64; 3]) -> bool {
         let c = self.centre();
-        let d2 = (station[0] - c[0]).powi(2) + (station[1] - c[1]).powi(2) + (station[2] - c[2]).powi(2);
+        let d2 =
+            (station[0] - c[0]).powi(2) + (station[1] - c[1]).powi(2) + (station[2] - c[2]).powi(2);
         let l = self.diagonal_m() * quadrature::FAR_FIELD_RATIO;
         d2 > l * l
     }

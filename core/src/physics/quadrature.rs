@@ -62,12 +62,24 @@ mod tests {
     fn four_point_rule_is_exact_to_degree_seven() {
         // ∫_{-1}^{1} t^p dt = 2/(p+1) for even p, 0 for odd p.
         for p in 0..=7 {
-            let q: f64 = GL4_NODES.iter().zip(GL4_WEIGHTS).map(|(t, w)| w * t.powi(p)).sum();
-            let exact = if p % 2 == 0 { 2.0 / (p as f64 + 1.0) } else { 0.0 };
+            let q: f64 = GL4_NODES
+                .iter()
+                .zip(GL4_WEIGHTS)
+                .map(|(t, w)| w * t.powi(p))
+                .sum();
+            let exact = if p % 2 == 0 {
+                2.0 / (p as f64 + 1.0)
+            } else {
+                0.0
+            };
             assert!((q - exact).abs() < 1e-15, "degree {p}: {q} vs {exact}");
         }
         // And not exact at degree 8 (so the nodes are really the 4-point rule).
-        let q8: f64 = GL4_NODES.iter().zip(GL4_WEIGHTS).map(|(t, w)| w * t.powi(8)).sum();
+        let q8: f64 = GL4_NODES
+            .iter()
+            .zip(GL4_WEIGHTS)
+            .map(|(t, w)| w * t.powi(8))
+            .sum();
         assert!((q8 - 2.0 / 9.0).abs() > 1e-4);
     }
 

@@ -17,7 +17,9 @@
 //! 9 digits, which is well beyond the f32 in which sensitivities are stored.
 
 use super::corner;
-use crate::units::{induced_magnetization_a_m, GRAVITY_KERNEL_TO_MGAL_PER_GCC, MAG_KERNEL_TO_NT_PER_A_M};
+use crate::units::{
+    induced_magnetization_a_m, GRAVITY_KERNEL_TO_MGAL_PER_GCC, MAG_KERNEL_TO_NT_PER_A_M,
+};
 use thiserror::Error;
 
 /// Node coordinates of a tensor mesh, strictly increasing on each axis.
@@ -44,7 +46,10 @@ impl MeshNodes {
     pub fn new(x: Vec<f64>, y: Vec<f64>, z: Vec<f64>) -> Result<Self, TensorError> {
         for (axis, v) in [('x', &x), ('y', &y), ('z', &z)] {
             if v.len() < 2 {
-                return Err(TensorError::BadNodes { axis, index: v.len() });
+                return Err(TensorError::BadNodes {
+                    axis,
+                    index: v.len(),
+                });
             }
             for (i, w) in v.windows(2).enumerate() {
                 if !w[0].is_finite() || !w[1].is_finite() || w[0] >= w[1] {
@@ -58,7 +63,11 @@ impl MeshNodes {
     /// Uniform nodes: `n` cells of width `d` from `origin` on each axis.
     pub fn uniform(origin: [f64; 3], d: [f64; 3], n: [usize; 3]) -> Result<Self, TensorError> {
         let axis = |o: f64, d: f64, n: usize| (0..=n).map(|i| o + d * i as f64).collect::<Vec<_>>();
-        Self::new(axis(origin[0], d[0], n[0]), axis(origin[1], d[1], n[1]), axis(origin[2], d[2], n[2]))
+        Self::new(
+            axis(origin[0], d[0], n[0]),
+            axis(origin[1], d[1], n[1]),
+            axis(origin[2], d[2], n[2]),
+        )
     }
 
     /// Cell counts (nx, ny, nz).
@@ -144,7 +153,10 @@ fn row_by_planes(
 ) -> Result<(), TensorError> {
     let want = nodes.n_cells();
     if out.len() != want {
-        return Err(TensorError::RowLength { got: out.len(), want });
+        return Err(TensorError::RowLength {
+            got: out.len(),
+            want,
+        });
     }
     scratch.prepare(nodes, station);
     let [nx, ny, _] = nodes.shape();
@@ -157,7 +169,13 @@ fn row_by_planes(
             }
         }
     };
-    let RowScratch { lo, hi, diff, dx, dy } = scratch;
+    let RowScratch {
+        lo,
+        hi,
+        diff,
+        dx,
+        dy,
+    } = scratch;
     fill(lo, dx, dy, nodes.z[0] - station[2]);
     for (k, &zn) in nodes.z[1..].iter().enumerate() {
         fill(hi, dx, dy, zn - station[2]);
@@ -180,8 +198,20 @@ fn row_by_planes(
 
 /// Vertical gravity (mGal, positive down) at `station` of each cell carrying a
 /// density contrast of 1 g/cm³, written to `out` (length = cell count).
-pub fn gz_row(nodes: &MeshNodes, station: [f64; 3], out: &mut [f64], scratch: &mut RowScratch) -> Result<(), TensorError> {
-    row_by_planes(nodes, station, out, scratch, GRAVITY_KERNEL_TO_MGAL_PER_GCC, corner::gravity_phi_z)
+pub fn gz_row(
+    nodes: &MeshNodes,
+    station: [f64; 3],
+    out: &mut [f64],
+    scratch: &mut RowScratch,
+) -> Result<(), TensorError> {
+    row_by_planes(
+        nodes,
+        station,
+        out,
+        scratch,
+        GRAVITY_KERNEL_TO_MGAL_PER_GCC,
+        corner::gravity_phi_z,
+    )
 }
 
 /// Total-field anomaly at `station` of each cell: f̂ᵀ T m̂ × `scale`, with f̂ the
@@ -198,7 +228,11 @@ pub fn tmi_row(
     scratch: &mut RowScratch,
 ) -> Result<(), TensorError> {
     if nodes.on_edge(station) {
-        return Err(TensorError::StationOnEdge { x: station[0], y: station[1], z: station[2] });
+        return Err(TensorError::StationOnEdge {
+            x: station[0],
+            y: station[1],
+            z: station[2],
+        });
     }
     let (f, m) = (field_unit, mag_unit);
     let c = [
@@ -222,11 +256,21 @@ mod tests {
     use crate::physics::{gravity::prism_gz_mgal, magnetic, Prism};
 
     fn nodes() -> MeshNodes {
-        MeshNodes::new(vec![-30.0, -10.0, 0.0, 5.0, 25.0], vec![-20.0, 0.0, 10.0, 40.0], vec![-100.0, -60.0, -35.0, -20.0, -10.0, -4.0]).unwrap()
+        MeshNodes::new(
+            vec![-30.0, -10.0, 0.0, 5.0, 25.0],
+            vec![-20.0, 0.0, 10.0, 40.0],
+            vec![-100.0, -60.0, -35.0, -20.0, -10.0, -4.0],
+        )
+        .unwrap()
     }
 
     fn cell(n: &MeshNodes, i: usize, j: usize, k: usize) -> Prism {
-        Prism::new([n.x[i], n.x[i + 1]], [n.y[j], n.y[j + 1]], [n.z[k], n.z[k + 1]]).unwrap()
+        Prism::new(
+            [n.x[i], n.x[i + 1]],
+            [n.y[j], n.y[j + 1]],
+            [n.z[k], n.z[k + 1]],
+        )
+        .unwrap()
     }
 
     #[test]
@@ -242,7 +286,10 @@ mod tests {
                     for i in 0..nx {
                         let want = prism_gz_mgal(&cell(&n, i, j, k), st, 1.0);
                         let got = row[i + nx * (j + ny * k)];
-                        assert!((got - want).abs() <= 1e-12 * want.abs().max(1e-9), "{st:?} cell {i},{j},{k}: {got} vs {want}");
+                        assert!(
+                            (got - want).abs() <= 1e-12 * want.abs().max(1e-9),
+                            "{st:?} cell {i},{j},{k}: {got} vs {want}"
+                        );
                     }
                 }
             }
@@ -253,7 +300,11 @@ mod tests {
     fn tmi_row_equals_cell_by_cell_evaluation() {
         let n = nodes();
         let [nx, ny, nz] = n.shape();
-        let field = magnetic::InducingField { intensity_nt: 52_000.0, inclination_deg: 63.0, declination_deg: -8.0 };
+        let field = magnetic::InducingField {
+            intensity_nt: 52_000.0,
+            inclination_deg: 63.0,
+            declination_deg: -8.0,
+        };
         let f = field.unit();
         let scale = induced_tmi_scale(field.intensity_nt);
         let mut row = vec![0.0; n.n_cells()];
@@ -263,10 +314,18 @@ mod tests {
         for k in 0..nz {
             for j in 0..ny {
                 for i in 0..nx {
-                    let b = magnetic::prism_field_nt(&cell(&n, i, j, k), st, field.induced_magnetization(1.0)).unwrap();
+                    let b = magnetic::prism_field_nt(
+                        &cell(&n, i, j, k),
+                        st,
+                        field.induced_magnetization(1.0),
+                    )
+                    .unwrap();
                     let want = magnetic::tmi_nt(b, f);
                     let got = row[i + nx * (j + ny * k)];
-                    assert!((got - want).abs() <= 1e-10 * want.abs().max(1e-6), "cell {i},{j},{k}: {got} vs {want}");
+                    assert!(
+                        (got - want).abs() <= 1e-10 * want.abs().max(1e-6),
+                        "cell {i},{j},{k}: {got} vs {want}"
+                    );
                 }
             }
         }
@@ -274,13 +333,25 @@ mod tests {
 
     #[test]
     fn bad_nodes_rows_and_edges_are_refused() {
-        assert!(matches!(MeshNodes::new(vec![0.0, 1.0, 1.0], vec![0.0, 1.0], vec![0.0, 1.0]), Err(TensorError::BadNodes { axis: 'x', index: 2 })));
+        assert!(matches!(
+            MeshNodes::new(vec![0.0, 1.0, 1.0], vec![0.0, 1.0], vec![0.0, 1.0]),
+            Err(TensorError::BadNodes {
+                axis: 'x',
+                index: 2
+            })
+        ));
         let n = nodes();
         let mut s = RowScratch::default();
         let mut short = vec![0.0; 3];
-        assert!(matches!(gz_row(&n, [0.0; 3], &mut short, &mut s), Err(TensorError::RowLength { .. })));
+        assert!(matches!(
+            gz_row(&n, [0.0; 3], &mut short, &mut s),
+            Err(TensorError::RowLength { .. })
+        ));
         let mut row = vec![0.0; n.n_cells()];
         let f = [0.0, 0.0, -1.0];
-        assert!(matches!(tmi_row(&n, [0.0, 0.0, -50.0], f, f, 1.0, &mut row, &mut s), Err(TensorError::StationOnEdge { .. })));
+        assert!(matches!(
+            tmi_row(&n, [0.0, 0.0, -50.0], f, f, 1.0, &mut row, &mut s),
+            Err(TensorError::StationOnEdge { .. })
+        ));
     }
 }
