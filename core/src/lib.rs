@@ -3,6 +3,7 @@
 //! invariants they keep.
 
 pub mod forward;
+pub mod geodesy;
 pub mod io;
 pub mod physics;
 pub mod units;
