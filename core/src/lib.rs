@@ -6,4 +6,5 @@ pub mod forward;
 pub mod geodesy;
 pub mod io;
 pub mod physics;
+pub mod table;
 pub mod units;
