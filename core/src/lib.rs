@@ -6,5 +6,6 @@ pub mod forward;
 pub mod geodesy;
 pub mod io;
 pub mod physics;
+pub mod survey;
 pub mod table;
 pub mod units;

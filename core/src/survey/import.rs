@@ -1,0 +1,459 @@
+//! Import of survey line data: a delimited file and an [`ImportSpec`] (the
+//! column mapping and options, saved in the project) → a [`Survey`] with every
+//! value in the program's units and coordinates in a projected reference.
+
+use super::columns::{guess_column, ColumnSpec, Role, Unit};
+use super::lines::{lines_from_column, split_lines, SplitRule, SurveyLine};
+use super::time::{parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat};
+use crate::geodesy::crs::{Crs, CrsError};
+use crate::table::read::read_table;
+use crate::table::sniff::sniff;
+use crate::table::{ColumnData, ColumnKind, TableError, TextOptions};
+use serde::{Deserialize, Serialize};
+use std::io::Read;
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// Everything needed to import one file, as plain data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ImportSpec {
+    pub text: TextOptions,
+    /// One entry per column of the file, in file order.
+    pub columns: Vec<ColumnSpec>,
+    /// The projected reference (EPSG code) of easting/northing columns, and the
+    /// one longitude/latitude are projected into. A geographic code here means
+    /// longitude/latitude are in that datum and a UTM zone is chosen for them.
+    pub epsg: Option<u32>,
+    pub date_order: DateOrder,
+    pub time_format: TimeFormat,
+    /// How to split lines when no column has the line role.
+    pub split: SplitRule,
+}
+
+/// A numeric channel in program units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Channel {
+    pub name: String,
+    pub role: Role,
+    /// Program unit of `values` ("mGal", "nT", "m" or "").
+    pub unit: &'static str,
+    pub values: Vec<f64>,
+}
+
+/// Imported line data. Raw readings are kept as imported (converted to
+/// program units); QC flags live beside them, never in them.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Survey {
+    pub source: PathBuf,
+    /// The projected reference of `x`, `y`; `None` when the file had
+    /// easting/northing and no reference was given.
+    pub crs: Option<Crs>,
+    pub x: Vec<f64>,
+    pub y: Vec<f64>,
+    /// Geographic coordinates (degrees) when a reference is known.
+    pub lat: Option<Vec<f64>>,
+    pub lon: Option<Vec<f64>>,
+    pub elevation_m: Option<Vec<f64>>,
+    /// Seconds since 1970-01-01 UTC (or seconds of day when the file has times
+    /// but no dates).
+    pub time_s: Option<Vec<f64>>,
+    pub station: Option<Vec<String>>,
+    pub lines: Vec<SurveyLine>,
+    pub channels: Vec<Channel>,
+    pub text_columns: Vec<(String, Vec<String>)>,
+    /// File line of each row.
+    pub file_lines: Vec<u64>,
+    /// Dummy count per original column name.
+    pub dummies: Vec<(String, usize)>,
+    pub warnings: Vec<String>,
+}
+
+impl Survey {
+    pub fn n_rows(&self) -> usize {
+        self.x.len()
+    }
+
+    pub fn channel(&self, role: Role) -> Option<&Channel> {
+        self.channels.iter().find(|c| c.role == role)
+    }
+}
+
+/// A problem importing a file.
+#[derive(Debug, Error)]
+pub enum ImportError {
+    #[error(transparent)]
+    Table(#[from] TableError),
+    #[error("{file}: the mapping lists {given} columns but the file has {found}")]
+    ColumnCount { file: PathBuf, given: usize, found: usize },
+    #[error("{file}: columns '{first}' and '{second}' both have the role {role}; give one of them another role")]
+    DuplicateRole { file: PathBuf, role: &'static str, first: String, second: String },
+    #[error("{file}: no coordinates: give one column the role easting and one northing, or longitude and latitude")]
+    NoCoordinates { file: PathBuf },
+    #[error("{file}: column '{column}' has role {role} but unit {unit}, which does not fit; use one of: {allowed}")]
+    BadUnit { file: PathBuf, column: String, role: &'static str, unit: &'static str, allowed: String },
+    #[error("{file}: {message}")]
+    Crs { file: PathBuf, message: String },
+    #[error("{file}: line {line}, column '{column}': {message}")]
+    Value { file: PathBuf, line: u64, column: String, message: String },
+}
+
+impl ImportSpec {
+    /// Detects the file layout and guesses every column's role and unit.
+    pub fn guess_for_file(path: &Path, text: &TextOptions, epsg: Option<u32>) -> Result<ImportSpec, ImportError> {
+        let head = read_head(path)?;
+        let sn = sniff(&head, path, text)?;
+        let columns = sn.names.iter().zip(&sn.kinds).map(|(n, k)| guess_column(n, *k == ColumnKind::Number)).collect::<Vec<_>>();
+        let text = TextOptions { delimiter: Some(sn.delimiter), has_header: Some(sn.has_header), dummy_value: text.dummy_value };
+        Ok(ImportSpec { text, columns, epsg, date_order: DateOrder::default(), time_format: TimeFormat::default(), split: SplitRule::default() })
+    }
+}
+
+fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
+    let f = std::fs::File::open(path).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+    let mut head = Vec::new();
+    f.take(256 * 1024).read_to_end(&mut head).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+    Ok(head)
+}
+
+/// The UTM (or MGA) reference on the same datum as geographic code `geo` for
+/// a survey centred at `lon`, `lat`.
+pub fn utm_for(geo: u32, lat: f64, lon: f64) -> Option<u32> {
+    let zone = (((lon + 180.0) / 6.0).floor() as i64).rem_euclid(60) as u32 + 1;
+    let south = lat < 0.0;
+    match geo {
+        4326 => Some(if south { 32700 } else { 32600 } + zone),
+        4269 if !south && zone <= 23 => Some(26900 + zone),
+        4283 if south && (48..=58).contains(&zone) => Some(28300 + zone),
+        7844 if south && (46..=59).contains(&zone) => Some(7800 + zone),
+        4258 if !south && (28..=38).contains(&zone) => Some(25800 + zone),
+        _ => None,
+    }
+}
+
+/// Imports a file by `spec`.
+pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportError> {
+    let file = path.to_path_buf();
+    let head = read_head(path)?;
+    let sn = sniff(&head, path, &spec.text)?;
+    if sn.names.len() != spec.columns.len() {
+        return Err(ImportError::ColumnCount { file, given: spec.columns.len(), found: sn.names.len() });
+    }
+    // Check roles and units before reading the whole file.
+    for (i, c) in spec.columns.iter().enumerate() {
+        if !c.role.units().contains(&c.unit) {
+            let allowed = c.role.units().iter().map(|u| u.label()).collect::<Vec<_>>().join(", ");
+            return Err(ImportError::BadUnit { file, column: c.name.clone(), role: c.role.label(), unit: c.unit.label(), allowed });
+        }
+        if matches!(c.role, Role::PassThrough | Role::Ignore) {
+            continue;
+        }
+        if let Some(j) = spec.columns[..i].iter().position(|d| d.role == c.role) {
+            return Err(ImportError::DuplicateRole { file, role: c.role.label(), first: spec.columns[j].name.clone(), second: c.name.clone() });
+        }
+    }
+    let find = |r: Role| spec.columns.iter().position(|c| c.role == r);
+    let (ix, iy, ilon, ilat) = (find(Role::Easting), find(Role::Northing), find(Role::Longitude), find(Role::Latitude));
+    let projected_given = ix.is_some() && iy.is_some();
+    let geographic_given = ilon.is_some() && ilat.is_some();
+    if !projected_given && !geographic_given {
+        return Err(ImportError::NoCoordinates { file });
+    }
+    let given_crs = match spec.epsg {
+        Some(code) => Some(Crs::from_epsg(code).map_err(|e| ImportError::Crs { file: file.clone(), message: e.to_string() })?),
+        None => None,
+    };
+    if projected_given && !geographic_given && given_crs.is_some_and(|c| c.is_geographic()) {
+        return Err(ImportError::Crs {
+            file,
+            message: format!(
+                "EPSG:{} is geographic, but the coordinates are mapped as easting/northing; map them as longitude/latitude, or give the projected EPSG code",
+                spec.epsg.unwrap_or(0)
+            ),
+        });
+    }
+    let kinds: Vec<ColumnKind> = spec
+        .columns
+        .iter()
+        .zip(&sn.kinds)
+        .map(|(c, k)| match c.role {
+            r if r.is_numeric() => ColumnKind::Number,
+            Role::PassThrough => *k,
+            _ => ColumnKind::Text,
+        })
+        .collect();
+    let table = read_table(path, &spec.text, Some(&kinds))?;
+    let n = table.n_rows();
+    let mut warnings = Vec::new();
+    let dummies: Vec<(String, usize)> = table.names.iter().cloned().zip(table.dummies.iter().copied()).collect();
+    let file_lines = table.lines;
+    let mut cols: Vec<Option<ColumnData>> = table.columns.into_iter().map(Some).collect();
+    let mut take_numbers = |i: usize| -> Vec<f64> {
+        let c = &spec.columns[i];
+        let mut v = match cols[i].take() {
+            Some(ColumnData::Number(v)) => v,
+            _ => vec![f64::NAN; n],
+        };
+        let f = c.unit.factor();
+        if f != 1.0 {
+            v.iter_mut().for_each(|x| *x *= f);
+        }
+        v
+    };
+    // Coordinates.
+    let (mut x, mut y) = (Vec::new(), Vec::new());
+    let (mut lat, mut lon) = (None, None);
+    if let (Some(a), Some(b)) = (ilon, ilat) {
+        let lo = take_numbers(a);
+        let la = take_numbers(b);
+        for (k, &v) in la.iter().enumerate() {
+            if v.is_finite() && !(-90.0..=90.0).contains(&v) {
+                return Err(ImportError::Value {
+                    file,
+                    line: file_lines[k],
+                    column: spec.columns[b].name.clone(),
+                    message: format!("latitude {v} is outside −90 to 90 (are latitude and longitude swapped?)"),
+                });
+            }
+        }
+        for (k, &v) in lo.iter().enumerate() {
+            if v.is_finite() && !(-360.0..=360.0).contains(&v) {
+                return Err(ImportError::Value { file, line: file_lines[k], column: spec.columns[a].name.clone(), message: format!("longitude {v} is outside −360 to 360") });
+            }
+        }
+        lat = Some(la);
+        lon = Some(lo);
+    }
+    let crs: Option<Crs> = match (given_crs, projected_given) {
+        (Some(c), _) if !c.is_geographic() => Some(c),
+        (None, true) => {
+            warnings.push("no coordinate reference given: easting/northing are used as they are, and latitude (needed for normal gravity and the main field) is unknown".into());
+            None
+        }
+        (g, _) => {
+            // Longitude/latitude only: choose the UTM zone of the survey centre.
+            let geo = g.map(|c| c.epsg()).unwrap_or(4326);
+            let (la, lo) = (lat.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0), lon.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0));
+            let code = utm_for(geo, la, lo).ok_or_else(|| ImportError::Crs { file: file.clone(), message: format!("no UTM/MGA zone is known on the datum of EPSG:{geo} at latitude {la:.2}, longitude {lo:.2}; give a projected EPSG code") })?;
+            let c = Crs::from_epsg(code).map_err(|e| ImportError::Crs { file: file.clone(), message: e.to_string() })?;
+            warnings.push(format!("coordinates projected to {} (chosen from the survey centre)", c.name()));
+            Some(c)
+        }
+    };
+    if projected_given {
+        x = take_numbers(ix.unwrap_or(0));
+        y = take_numbers(iy.unwrap_or(0));
+        if lat.is_none() {
+            if let Some(c) = &crs {
+                let (mut la, mut lo) = (vec![f64::NAN; n], vec![f64::NAN; n]);
+                for k in 0..n {
+                    if x[k].is_finite() && y[k].is_finite() {
+                        let (p, q) = c.unproject(x[k], y[k]).map_err(|e| crs_value(&file, file_lines[k], &spec.columns[ix.unwrap_or(0)].name, e))?;
+                        la[k] = p;
+                        lo[k] = q;
+                    }
+                }
+                lat = Some(la);
+                lon = Some(lo);
+            }
+        }
+    } else if let (Some(c), Some(la), Some(lo)) = (&crs, &lat, &lon) {
+        x = vec![f64::NAN; n];
+        y = vec![f64::NAN; n];
+        for k in 0..n {
+            if la[k].is_finite() && lo[k].is_finite() {
+                let (e, nn) = c.project(la[k], lo[k]).map_err(|e| crs_value(&file, file_lines[k], &spec.columns[ilat.unwrap_or(0)].name, e))?;
+                x[k] = e;
+                y[k] = nn;
+            }
+        }
+    }
+    let missing_xy = x.iter().zip(&y).filter(|(a, b)| !a.is_finite() || !b.is_finite()).count();
+    if missing_xy > 0 {
+        warnings.push(format!("{missing_xy} rows have no coordinates (dummy or empty); they are kept and flagged"));
+    }
+    // Elevation, with a plausibility check for feet given as metres.
+    let elevation_m = find(Role::Elevation).map(|i| {
+        let v = take_numbers(i);
+        let c = &spec.columns[i];
+        let max = v.iter().copied().filter(|a| a.is_finite()).fold(f64::NEG_INFINITY, f64::max);
+        if c.unit == Unit::Metre && super::columns::unit_hint(&c.name).is_some_and(|u| matches!(u, Unit::Foot | Unit::UsSurveyFoot)) {
+            warnings.push(format!("column '{}' is read as metres but its name says feet; check its unit", c.name));
+        }
+        if max > 8_900.0 {
+            warnings.push(format!("column '{}' reaches {max:.0} m, higher than any point on Earth; are these feet?", c.name));
+        }
+        v
+    });
+    // Time.
+    let time_s = read_times(spec, &mut cols, &file_lines, &file, &mut warnings)?;
+    let station = find(Role::Station).and_then(|i| match cols[i].take() {
+        Some(ColumnData::Text(v)) => Some(v),
+        _ => None,
+    });
+    let lines = match find(Role::Line).and_then(|i| cols[i].take()) {
+        Some(ColumnData::Text(v)) => lines_from_column(&v),
+        _ => split_lines(&x, &y, &spec.split),
+    };
+    let mut channels = Vec::new();
+    let mut text_columns = Vec::new();
+    for (i, c) in spec.columns.iter().enumerate() {
+        let keep = matches!(c.role, Role::Gravity | Role::Magnetic | Role::BaseGravity | Role::BaseMagnetic | Role::InstrumentHeight | Role::HeightAboveGround | Role::PassThrough);
+        if !keep {
+            continue;
+        }
+        match cols[i].take() {
+            Some(ColumnData::Number(mut v)) => {
+                let f = c.unit.factor();
+                if f != 1.0 {
+                    v.iter_mut().for_each(|a| *a *= f);
+                }
+                let unit = match c.role {
+                    Role::Gravity | Role::BaseGravity => "mGal",
+                    Role::Magnetic | Role::BaseMagnetic => "nT",
+                    r if r.is_length() => "m",
+                    _ => "",
+                };
+                channels.push(Channel { name: c.name.clone(), role: c.role, unit, values: v });
+            }
+            Some(ColumnData::Text(v)) => text_columns.push((c.name.clone(), v)),
+            None => {}
+        }
+    }
+    Ok(Survey { source: file, crs, x, y, lat, lon, elevation_m, time_s, station, lines, channels, text_columns, file_lines, dummies, warnings })
+}
+
+fn crs_value(file: &Path, line: u64, column: &str, e: CrsError) -> ImportError {
+    ImportError::Value { file: file.to_path_buf(), line, column: column.to_string(), message: e.to_string() }
+}
+
+fn mean_finite(v: &[f64]) -> f64 {
+    let (s, n) = v.iter().filter(|a| a.is_finite()).fold((0.0, 0usize), |(s, n), a| (s + a, n + 1));
+    if n == 0 {
+        0.0
+    } else {
+        s / n as f64
+    }
+}
+
+fn read_times(spec: &ImportSpec, cols: &mut [Option<ColumnData>], lines: &[u64], file: &Path, warnings: &mut Vec<String>) -> Result<Option<Vec<f64>>, ImportError> {
+    let find = |r: Role| spec.columns.iter().position(|c| c.role == r);
+    let text_of = |cols: &mut [Option<ColumnData>], i: usize| match cols[i].take() {
+        Some(ColumnData::Text(v)) => v,
+        _ => Vec::new(),
+    };
+    let bad = |k: usize, i: usize, message: String| ImportError::Value { file: file.to_path_buf(), line: lines[k], column: spec.columns[i].name.clone(), message };
+    if let Some(i) = find(Role::DateTime) {
+        let v = text_of(cols, i);
+        let mut out = Vec::with_capacity(v.len());
+        for (k, t) in v.iter().enumerate() {
+            out.push(if t.is_empty() || crate::table::is_dummy_token(t) { f64::NAN } else { parse_datetime(t, spec.date_order).map_err(|m| bad(k, i, m))? });
+        }
+        return Ok(Some(out));
+    }
+    let Some(it) = find(Role::Time) else { return Ok(None) };
+    let times = text_of(cols, it);
+    let all_below_24 = times.iter().filter_map(|t| t.parse::<f64>().ok()).all(|v| v < 24.0);
+    let dates = find(Role::Date).map(|i| (i, text_of(cols, i)));
+    if dates.is_none() {
+        warnings.push("times have no dates: they are seconds of day, and readings on different days cannot be told apart".into());
+    }
+    let mut out = Vec::with_capacity(times.len());
+    for (k, t) in times.iter().enumerate() {
+        if crate::table::is_dummy_token(t) {
+            out.push(f64::NAN);
+            continue;
+        }
+        let sod = parse_time_of_day(t, spec.time_format, all_below_24).map_err(|m| bad(k, it, m))?;
+        let day = match &dates {
+            Some((i, d)) => {
+                let dt = &d[k];
+                if crate::table::is_dummy_token(dt) {
+                    out.push(f64::NAN);
+                    continue;
+                }
+                parse_date(dt, spec.date_order).map_err(|m| bad(k, *i, m))? as f64
+            }
+            None => 0.0,
+        };
+        out.push(day * 86_400.0 + sod);
+    }
+    Ok(Some(out))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn write(name: &str, text: &str) -> PathBuf {
+        let p = std::env::temp_dir().join(format!("fieldstone-import-{name}-{}.csv", std::process::id()));
+        std::fs::write(&p, text).unwrap();
+        p
+    }
+
+    #[test]
+    fn a_ground_gravity_file_imports_with_units_converted() {
+        let p = write(
+            "grav",
+            "Line,Station,Easting,Northing,ELEV_FT,Date,Time,Grav_gu\n\
+             L10,1,500000,7000000,1000,14/03/2026,09:30:00,9781234.5\n\
+             L10,2,500025,7000000,1010,14/03/2026,09:35:00,*\n\
+             L20,1,500000,7000100,990,14/03/2026,10:00:00,9781230.0\n",
+        );
+        let mut spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
+        spec.date_order = DateOrder::DayMonthYear;
+        let roles: Vec<Role> = spec.columns.iter().map(|c| c.role).collect();
+        assert_eq!(roles, [Role::Line, Role::Station, Role::Easting, Role::Northing, Role::Elevation, Role::Date, Role::Time, Role::Gravity]);
+        let s = import_survey(&p, &spec).unwrap();
+        assert_eq!(s.n_rows(), 3);
+        assert_eq!(s.lines.len(), 2);
+        assert!((s.elevation_m.as_ref().unwrap()[0] - 304.8).abs() < 1e-9);
+        let g = &s.channel(Role::Gravity).unwrap().values;
+        assert!((g[0] - 978_123.45).abs() < 1e-6, "gu → mGal");
+        assert!(g[1].is_nan(), "dummy stays a dummy, not zero");
+        let t = s.time_s.as_ref().unwrap();
+        assert_eq!(t[1] - t[0], 300.0);
+        // UTM zone 55S, easting 500 000 is the central meridian 147° E.
+        assert!((s.lon.as_ref().unwrap()[0] - 147.0).abs() < 1e-9);
+        assert!(s.lat.as_ref().unwrap()[0] < 0.0);
+        assert_eq!(s.dummies.iter().find(|d| d.0 == "Grav_gu").unwrap().1, 1);
+    }
+
+    #[test]
+    fn geographic_input_is_projected_to_a_chosen_zone() {
+        let p = write("geo", "lat,lon,mag\n-33.5,151.2,57000\n-33.5,151.21,57001\n");
+        let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
+        let s = import_survey(&p, &spec).unwrap();
+        assert_eq!(s.crs.unwrap().epsg(), 32756);
+        assert!(s.warnings.iter().any(|w| w.contains("UTM zone 56S")));
+        assert!((s.x[1] - s.x[0] - 928.0).abs() < 5.0, "0.01° of longitude at 33.5° S is about 928 m: {}", s.x[1] - s.x[0]);
+    }
+
+    #[test]
+    fn bad_files_get_precise_messages() {
+        let p = write("swapped", "lat,lon,mag\n151.2,-33.5,57000\n");
+        let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
+        let e = import_survey(&p, &spec).unwrap_err().to_string();
+        assert!(e.contains("line 2") && e.contains("swapped"), "{e}");
+        let p = write("nocoords", "a,b,mag\n1,2,3\n");
+        let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
+        assert!(matches!(import_survey(&p, &spec), Err(ImportError::NoCoordinates { .. })));
+        let p = write("epsg", "x,y,mag\n1,2,3\n");
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(9999)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        assert!(e.contains("EPSG:9999"), "{e}");
+        let p = write("geoxy", "x,y,mag\n1,2,3\n");
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(4326)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        assert!(e.contains("geographic"), "{e}");
+        let p = write("time", "x,y,time,mag\n1,2,09:61,3\n");
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        assert!(e.contains("line 2") && e.contains("'time'"), "{e}");
+        let p = write("feet", "x,y,elevation_ft,mag\n1,2,3,4\n");
+        let mut spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
+        spec.columns[2].unit = Unit::Metre;
+        let s = import_survey(&p, &spec).unwrap();
+        assert!(s.warnings.iter().any(|w| w.contains("feet")), "{:?}", s.warnings);
+        let mut spec2 = spec.clone();
+        spec2.columns[3].role = Role::Easting;
+        spec2.columns[3].unit = Unit::Metre;
+        assert!(matches!(import_survey(&p, &spec2), Err(ImportError::DuplicateRole { .. })));
+    }
+}
