@@ -22,12 +22,16 @@ enum Command {
     /// Forward-model prisms at stations: gravity (g_z, mGal) and, with an
     /// inducing field, the magnetic field and total-field anomaly (nT).
     Forward(commands::forward::ForwardArgs),
+    /// Show how a delimited file will be read: delimiter, header, column roles
+    /// and units, row and dummy counts, numeric ranges, line count.
+    Inspect(commands::inspect::InspectArgs),
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
         Some(Command::Forward(args)) => commands::forward::run(&args),
+        Some(Command::Inspect(args)) => commands::inspect::run(&args),
         None => commands::window::open(cli.project.as_deref()),
     };
     match result {

@@ -2,6 +2,7 @@
 //! `fieldstone-core` and its errors into one message for the user.
 
 pub mod forward;
+pub mod inspect;
 pub mod window;
 
 /// The cautions printed with the help and shown in the window.
