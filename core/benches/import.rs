@@ -31,9 +31,9 @@ fn main() {
             let x = 400_000.0 + 5.0 * k as f64 + 0.01 * (r % 7) as f64;
             let y = 6_500_000.0 + 100.0 * (r / per_line) as f64;
             let z = 250.0 + 10.0 * ((k as f64) * 0.001).sin();
-            let t = 3600.0 * 8.0 + 0.1 * r as f64;
+            let t = 3600.0 * 8.0 + 0.01 * r as f64;
             let m = 55_000.0 + 30.0 * ((k as f64) * 0.01).cos() + 0.01 * (r % 13) as f64;
-            writeln!(w, "{line},{k},{x:.2},{y:.2},{z:.2},{t:.1},{m:.3},{:.1}", 30.0 + (r % 5) as f64).unwrap();
+            writeln!(w, "{line},{k},{x:.2},{y:.2},{z:.2},{t:.2},{m:.3},{:.1}", 30.0 + (r % 5) as f64).unwrap();
         }
         w.flush().unwrap();
         eprintln!("wrote {} ({} rows) in {:.1} s", path.display(), rows, t.elapsed().as_secs_f64());

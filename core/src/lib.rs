@@ -4,6 +4,7 @@
 
 pub mod forward;
 pub mod geodesy;
+pub mod grid;
 pub mod io;
 pub mod physics;
 pub mod survey;
