@@ -18,7 +18,10 @@ fn peak_rss_bytes() -> Option<u64> {
 }
 
 fn main() {
-    let rows: usize = std::env::var("FIELDSTONE_BENCH_ROWS").ok().and_then(|v| v.parse().ok()).unwrap_or(5_000_000);
+    let rows: usize = std::env::var("FIELDSTONE_BENCH_ROWS")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(5_000_000);
     let path = std::env::temp_dir().join(format!("fieldstone-bench-lines-{rows}.csv"));
     if !path.exists() {
         let t = Instant::now();
@@ -33,10 +36,20 @@ fn main() {
             let z = 250.0 + 10.0 * ((k as f64) * 0.001).sin();
             let t = 3600.0 * 8.0 + 0.01 * r as f64;
             let m = 55_000.0 + 30.0 * ((k as f64) * 0.01).cos() + 0.01 * (r % 13) as f64;
-            writeln!(w, "{line},{k},{x:.2},{y:.2},{z:.2},{t:.2},{m:.3},{:.1}", 30.0 + (r % 5) as f64).unwrap();
+            writeln!(
+                w,
+                "{line},{k},{x:.2},{y:.2},{z:.2},{t:.2},{m:.3},{:.1}",
+                30.0 + (r % 5) as f64
+            )
+            .unwrap();
         }
         w.flush().unwrap();
-        eprintln!("wrote {} ({} rows) in {:.1} s", path.display(), rows, t.elapsed().as_secs_f64());
+        eprintln!(
+            "wrote {} ({} rows) in {:.1} s",
+            path.display(),
+            rows,
+            t.elapsed().as_secs_f64()
+        );
     }
     let size = std::fs::metadata(&path).unwrap().len();
     let t = Instant::now();
@@ -49,13 +62,24 @@ fn main() {
     let survey = import_survey(&path, &spec).unwrap();
     let import_s = t.elapsed().as_secs_f64();
     let peak = peak_rss_bytes();
-    println!("Line-data import ({} rows, 8 columns, {:.0} MB file)", n, size as f64 / 1e6);
+    println!(
+        "Line-data import ({} rows, 8 columns, {:.0} MB file)",
+        n,
+        size as f64 / 1e6
+    );
     println!("{:<40} {:>10}", "step", "seconds");
     println!("{:<40} {:>10.2}", "read delimited table", read_s);
-    println!("{:<40} {:>10.2}", "import survey (roles, units, lines)", import_s);
+    println!(
+        "{:<40} {:>10.2}",
+        "import survey (roles, units, lines)", import_s
+    );
     println!("rows/s (import): {:.3e}", n as f64 / import_s);
     if let Some(p) = peak {
-        println!("peak resident memory: {:.0} MB = {:.2} x file size", p as f64 / 1e6, p as f64 / size as f64);
+        println!(
+            "peak resident memory: {:.0} MB = {:.2} x file size",
+            p as f64 / 1e6,
+            p as f64 / size as f64
+        );
     }
     println!("lines found: {}", survey.lines.len());
 }

@@ -18,14 +18,37 @@ fn every_sample_type_and_georeferencing_form_reads_back() {
     for (name, c) in cases {
         let g = read_geotiff(&fixture(name)).unwrap_or_else(|e| panic!("{name}: {e}"));
         let f = |k: &str| c[k].as_f64().unwrap();
-        let data: Vec<Vec<f64>> = c["data"].as_array().unwrap().iter().map(|r| r.as_array().unwrap().iter().map(|v| v.as_f64().unwrap()).collect()).collect();
+        let data: Vec<Vec<f64>> = c["data"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|r| {
+                r.as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|v| v.as_f64().unwrap())
+                    .collect()
+            })
+            .collect();
         let (h, w) = (data.len(), data[0].len());
         assert_eq!((g.nx, g.ny), (w, h), "{name}");
-        assert!((g.dx - f("dx")).abs() < 1e-12 && (g.dy - f("dy")).abs() < 1e-12, "{name}");
-        assert!((g.x0 - f("x0")).abs() < 1e-9, "{name}: x0 {} vs {}", g.x0, f("x0"));
+        assert!(
+            (g.dx - f("dx")).abs() < 1e-12 && (g.dy - f("dy")).abs() < 1e-12,
+            "{name}"
+        );
+        assert!(
+            (g.x0 - f("x0")).abs() < 1e-9,
+            "{name}: x0 {} vs {}",
+            g.x0,
+            f("x0")
+        );
         // The top row of the file is the northernmost row of the grid.
         let y_top = g.y0 + (g.ny - 1) as f64 * g.dy;
-        assert!((y_top - f("y_top")).abs() < 1e-9, "{name}: top {y_top} vs {}", f("y_top"));
+        assert!(
+            (y_top - f("y_top")).abs() < 1e-9,
+            "{name}: top {y_top} vs {}",
+            f("y_top")
+        );
         assert_eq!(g.epsg, Some(c["epsg"].as_u64().unwrap() as u32), "{name}");
         let nodata = c["nodata"].as_f64();
         for (r, row) in data.iter().enumerate() {
@@ -43,8 +66,17 @@ fn every_sample_type_and_georeferencing_form_reads_back() {
 
 #[test]
 fn rotated_ungeoreferenced_and_multiband_files_are_refused() {
-    assert!(matches!(read_geotiff(&fixture("rotated.tif")), Err(GeoTiffError::Rotated { .. })));
+    assert!(matches!(
+        read_geotiff(&fixture("rotated.tif")),
+        Err(GeoTiffError::Rotated { .. })
+    ));
     let e = read_geotiff(&fixture("no_georef.tif")).unwrap_err();
-    assert!(matches!(e, GeoTiffError::NoGeoreference { .. }) && e.to_string().contains("no_georef.tif"), "{e}");
-    assert!(matches!(read_geotiff(&fixture("rgb.tif")), Err(GeoTiffError::Bands { bands: 3, .. })));
+    assert!(
+        matches!(e, GeoTiffError::NoGeoreference { .. }) && e.to_string().contains("no_georef.tif"),
+        "{e}"
+    );
+    assert!(matches!(
+        read_geotiff(&fixture("rgb.tif")),
+        Err(GeoTiffError::Bands { bands: 3, .. })
+    ));
 }

@@ -32,7 +32,9 @@ pub struct InspectArgs {
 
 pub fn run(args: &InspectArgs) -> Result<(), String> {
     let delimiter = match &args.delimiter {
-        Some(d) => Some(Delimiter::parse(d).ok_or_else(|| format!("--delimiter '{d}' is not one of: comma, tab, semicolon, whitespace"))?),
+        Some(d) => Some(Delimiter::parse(d).ok_or_else(|| {
+            format!("--delimiter '{d}' is not one of: comma, tab, semicolon, whitespace")
+        })?),
         None => None,
     };
     let has_header = if args.no_header {
@@ -42,30 +44,50 @@ pub fn run(args: &InspectArgs) -> Result<(), String> {
     } else {
         None
     };
-    let opts = TextOptions { delimiter, has_header, dummy_value: args.dummy };
+    let opts = TextOptions {
+        delimiter,
+        has_header,
+        dummy_value: args.dummy,
+    };
     let t = read_table(&args.file, &opts, None).map_err(|e| e.to_string())?;
     let said = |given: bool| if given { "given" } else { "detected" };
     println!("file: {}", args.file.display());
-    println!("delimiter: {} ({})", t.delimiter.name(), said(delimiter.is_some()));
-    println!("header: {} ({})", if t.has_header { "yes" } else { "no" }, said(has_header.is_some()));
+    println!(
+        "delimiter: {} ({})",
+        t.delimiter.name(),
+        said(delimiter.is_some())
+    );
+    println!(
+        "header: {} ({})",
+        if t.has_header { "yes" } else { "no" },
+        said(has_header.is_some())
+    );
     println!("rows: {}", t.n_rows());
     println!("dummies: {}", t.dummies.iter().sum::<usize>());
     println!();
-    println!("{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {:>14} {:>14} {:>14}", "#", "column", "role", "unit", "kind", "dummies", "min", "mean", "max");
+    println!(
+        "{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {:>14} {:>14} {:>14}",
+        "#", "column", "role", "unit", "kind", "dummies", "min", "mean", "max"
+    );
     let mut line_count = None;
     for (i, (name, col)) in t.names.iter().zip(&t.columns).enumerate() {
         let numeric = matches!(col, ColumnData::Number(_));
         let g = guess_column(name, numeric);
         let (kind, stats) = match col {
             ColumnData::Number(v) => {
-                let (mut n, mut s, mut lo, mut hi) = (0usize, 0.0, f64::INFINITY, f64::NEG_INFINITY);
+                let (mut n, mut s, mut lo, mut hi) =
+                    (0usize, 0.0, f64::INFINITY, f64::NEG_INFINITY);
                 for &a in v.iter().filter(|a| a.is_finite()) {
                     n += 1;
                     s += a;
                     lo = lo.min(a);
                     hi = hi.max(a);
                 }
-                let st = if n > 0 { format!("{:>14} {:>14} {:>14}", fmt(lo), fmt(s / n as f64), fmt(hi)) } else { format!("{:>14} {:>14} {:>14}", "-", "-", "-") };
+                let st = if n > 0 {
+                    format!("{:>14} {:>14} {:>14}", fmt(lo), fmt(s / n as f64), fmt(hi))
+                } else {
+                    format!("{:>14} {:>14} {:>14}", "-", "-", "-")
+                };
                 ("number", st)
             }
             ColumnData::Text(_) => ("text", String::new()),
@@ -77,12 +99,23 @@ pub fn run(args: &InspectArgs) -> Result<(), String> {
             };
             line_count = Some((name.clone(), distinct.len()));
         }
-        println!("{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {}", i + 1, name, g.role.label(), g.unit.label(), kind, t.dummies[i], stats);
+        println!(
+            "{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {}",
+            i + 1,
+            name,
+            g.role.label(),
+            g.unit.label(),
+            kind,
+            t.dummies[i],
+            stats
+        );
     }
     println!();
     match line_count {
         Some((name, n)) => println!("lines: {n} (from column '{name}')"),
-        None => println!("lines: no line column found (lines will be split at gaps and turns on import)"),
+        None => println!(
+            "lines: no line column found (lines will be split at gaps and turns on import)"
+        ),
     }
     Ok(())
 }

@@ -25,8 +25,18 @@ use thiserror::Error;
 /// A coordinate reference Fieldstone can use.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Crs {
-    Geographic { epsg: u32, datum: &'static str, ellipsoid: Ellipsoid },
-    Utm { epsg: u32, datum: &'static str, zone: u32, south: bool, ellipsoid: Ellipsoid },
+    Geographic {
+        epsg: u32,
+        datum: &'static str,
+        ellipsoid: Ellipsoid,
+    },
+    Utm {
+        epsg: u32,
+        datum: &'static str,
+        zone: u32,
+        south: bool,
+        ellipsoid: Ellipsoid,
+    },
 }
 
 /// The EPSG code as stored in a project.
@@ -43,7 +53,12 @@ pub enum CrsError {
     #[error("longitude {0}° is outside −360° to 360°")]
     LongitudeRange(f64),
     #[error("{lat}°, {lon}° lies {off_deg:.1}° of longitude from the central meridian of UTM zone {zone}; coordinates that far out are outside the zone's useful range (more than 10°)")]
-    OutsideZone { lat: f64, lon: f64, zone: u32, off_deg: f64 },
+    OutsideZone {
+        lat: f64,
+        lon: f64,
+        zone: u32,
+        off_deg: f64,
+    },
     #[error("coordinate is not a finite number")]
     NotFinite,
 }
@@ -51,13 +66,41 @@ pub enum CrsError {
 impl Crs {
     /// Looks up an EPSG code.
     pub fn from_epsg(code: u32) -> Result<Crs, CrsError> {
-        let utm = |datum, zone, south, ellipsoid| Ok(Crs::Utm { epsg: code, datum, zone, south, ellipsoid });
+        let utm = |datum, zone, south, ellipsoid| {
+            Ok(Crs::Utm {
+                epsg: code,
+                datum,
+                zone,
+                south,
+                ellipsoid,
+            })
+        };
         match code {
-            4326 => Ok(Crs::Geographic { epsg: code, datum: "WGS 84", ellipsoid: WGS84 }),
-            4269 => Ok(Crs::Geographic { epsg: code, datum: "NAD83", ellipsoid: GRS80 }),
-            4283 => Ok(Crs::Geographic { epsg: code, datum: "GDA94", ellipsoid: GRS80 }),
-            7844 => Ok(Crs::Geographic { epsg: code, datum: "GDA2020", ellipsoid: GRS80 }),
-            4258 => Ok(Crs::Geographic { epsg: code, datum: "ETRS89", ellipsoid: GRS80 }),
+            4326 => Ok(Crs::Geographic {
+                epsg: code,
+                datum: "WGS 84",
+                ellipsoid: WGS84,
+            }),
+            4269 => Ok(Crs::Geographic {
+                epsg: code,
+                datum: "NAD83",
+                ellipsoid: GRS80,
+            }),
+            4283 => Ok(Crs::Geographic {
+                epsg: code,
+                datum: "GDA94",
+                ellipsoid: GRS80,
+            }),
+            7844 => Ok(Crs::Geographic {
+                epsg: code,
+                datum: "GDA2020",
+                ellipsoid: GRS80,
+            }),
+            4258 => Ok(Crs::Geographic {
+                epsg: code,
+                datum: "ETRS89",
+                ellipsoid: GRS80,
+            }),
             32601..=32660 => utm("WGS 84", code - 32600, false, WGS84),
             32701..=32760 => utm("WGS 84", code - 32700, true, WGS84),
             26901..=26923 => utm("NAD83", code - 26900, false, GRS80),
@@ -88,9 +131,25 @@ impl Crs {
     pub fn name(&self) -> String {
         match self {
             Crs::Geographic { epsg, datum, .. } => format!("{datum} geographic (EPSG:{epsg})"),
-            Crs::Utm { epsg, datum, zone, south, .. } => {
-                let kind = if datum.starts_with("GDA") { "MGA zone" } else { "UTM zone" };
-                let hemi = if *south && !datum.starts_with("GDA") { "S" } else if datum.starts_with("GDA") { "" } else { "N" };
+            Crs::Utm {
+                epsg,
+                datum,
+                zone,
+                south,
+                ..
+            } => {
+                let kind = if datum.starts_with("GDA") {
+                    "MGA zone"
+                } else {
+                    "UTM zone"
+                };
+                let hemi = if *south && !datum.starts_with("GDA") {
+                    "S"
+                } else if datum.starts_with("GDA") {
+                    ""
+                } else {
+                    "N"
+                };
                 format!("{datum} / {kind} {zone}{hemi} (EPSG:{epsg})")
             }
         }
@@ -98,9 +157,20 @@ impl Crs {
 
     fn projection(&self) -> Option<TransverseMercator> {
         match self {
-            Crs::Utm { zone, south, ellipsoid, .. } => {
+            Crs::Utm {
+                zone,
+                south,
+                ellipsoid,
+                ..
+            } => {
                 let lon0 = -183.0 + 6.0 * *zone as f64;
-                Some(TransverseMercator::new(*ellipsoid, lon0, 0.9996, 500_000.0, if *south { 10_000_000.0 } else { 0.0 }))
+                Some(TransverseMercator::new(
+                    *ellipsoid,
+                    lon0,
+                    0.9996,
+                    500_000.0,
+                    if *south { 10_000_000.0 } else { 0.0 },
+                ))
             }
             Crs::Geographic { .. } => None,
         }
@@ -116,7 +186,12 @@ impl Crs {
                 let off = ((lon_deg - tm.lon0_deg + 540.0).rem_euclid(360.0) - 180.0).abs();
                 if off > 10.0 {
                     if let Crs::Utm { zone, .. } = self {
-                        return Err(CrsError::OutsideZone { lat: lat_deg, lon: lon_deg, zone: *zone, off_deg: off });
+                        return Err(CrsError::OutsideZone {
+                            lat: lat_deg,
+                            lon: lon_deg,
+                            zone: *zone,
+                            off_deg: off,
+                        });
                     }
                 }
                 Ok(tm.forward(lat_deg, lon_deg))
@@ -162,11 +237,38 @@ mod tests {
 
     #[test]
     fn known_codes_resolve_and_unknown_are_refused() {
-        assert!(matches!(Crs::from_epsg(32755), Ok(Crs::Utm { zone: 55, south: true, .. })));
-        assert!(matches!(Crs::from_epsg(26911), Ok(Crs::Utm { zone: 11, south: false, .. })));
-        assert!(matches!(Crs::from_epsg(7855), Ok(Crs::Utm { zone: 55, south: true, .. })));
-        assert_eq!(Crs::from_epsg(28350).unwrap().name(), "GDA94 / MGA zone 50 (EPSG:28350)");
-        assert_eq!(Crs::from_epsg(32633).unwrap().name(), "WGS 84 / UTM zone 33N (EPSG:32633)");
+        assert!(matches!(
+            Crs::from_epsg(32755),
+            Ok(Crs::Utm {
+                zone: 55,
+                south: true,
+                ..
+            })
+        ));
+        assert!(matches!(
+            Crs::from_epsg(26911),
+            Ok(Crs::Utm {
+                zone: 11,
+                south: false,
+                ..
+            })
+        ));
+        assert!(matches!(
+            Crs::from_epsg(7855),
+            Ok(Crs::Utm {
+                zone: 55,
+                south: true,
+                ..
+            })
+        ));
+        assert_eq!(
+            Crs::from_epsg(28350).unwrap().name(),
+            "GDA94 / MGA zone 50 (EPSG:28350)"
+        );
+        assert_eq!(
+            Crs::from_epsg(32633).unwrap().name(),
+            "WGS 84 / UTM zone 33N (EPSG:32633)"
+        );
         let e = Crs::from_epsg(2193).unwrap_err();
         assert!(e.to_string().contains("EPSG:2193"));
     }

@@ -14,10 +14,18 @@ pub struct Ellipsoid {
 
 /// GRS80 (Moritz 2000): a = 6 378 137 m, 1/f = 298.257 222 101 (derived from
 /// the defining constant J₂ and given in the paper to that many digits).
-pub const GRS80: Ellipsoid = Ellipsoid { name: "GRS80", a_m: 6_378_137.0, f: 1.0 / 298.257_222_101 };
+pub const GRS80: Ellipsoid = Ellipsoid {
+    name: "GRS80",
+    a_m: 6_378_137.0,
+    f: 1.0 / 298.257_222_101,
+};
 
 /// WGS 84 (NIMA TR8350.2): a = 6 378 137 m, 1/f = 298.257 223 563 (defining).
-pub const WGS84: Ellipsoid = Ellipsoid { name: "WGS 84", a_m: 6_378_137.0, f: 1.0 / 298.257_223_563 };
+pub const WGS84: Ellipsoid = Ellipsoid {
+    name: "WGS 84",
+    a_m: 6_378_137.0,
+    f: 1.0 / 298.257_223_563,
+};
 
 impl Ellipsoid {
     /// First eccentricity squared, e² = f(2 − f).

@@ -19,7 +19,7 @@ use tiff::tags::Tag;
 
 /// Value written for nodata cells (the most negative f32), also stored in the
 /// GDAL_NODATA tag so GIS programs mask it.
-pub const NODATA_WRITTEN: f32 = -3.402_823_466e38;
+pub const NODATA_WRITTEN: f32 = f32::MIN;
 
 const TAG_GDAL_NODATA: u16 = 42113;
 const KEY_MODEL_TYPE: u16 = 1024;
@@ -30,7 +30,10 @@ const KEY_PROJECTED_TYPE: u16 = 3072;
 #[derive(Debug, Error)]
 pub enum GeoTiffError {
     #[error("cannot read {file}: {source}")]
-    Read { file: PathBuf, source: std::io::Error },
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
     #[error("{file}: not a readable TIFF: {message}")]
     Decode { file: PathBuf, message: String },
     #[error("{file}: the TIFF has no georeferencing (no ModelPixelScale and ModelTiepoint, and no ModelTransformation); it cannot be placed on the map")]
@@ -49,37 +52,77 @@ pub enum GeoTiffError {
 
 impl From<crate::io::atomic::WriteError> for GeoTiffError {
     fn from(e: crate::io::atomic::WriteError) -> Self {
-        GeoTiffError::Write { file: e.path.clone(), message: e.source.to_string() }
+        GeoTiffError::Write {
+            file: e.path.clone(),
+            message: e.source.to_string(),
+        }
     }
 }
 
 /// Reads a single-band GeoTIFF into a grid.
 pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
     let file = path.to_path_buf();
-    let f = std::fs::File::open(path).map_err(|source| GeoTiffError::Read { file: file.clone(), source })?;
-    let dec_err = |e: tiff::TiffError| GeoTiffError::Decode { file: path.to_path_buf(), message: e.to_string() };
+    let f = std::fs::File::open(path).map_err(|source| GeoTiffError::Read {
+        file: file.clone(),
+        source,
+    })?;
+    let dec_err = |e: tiff::TiffError| GeoTiffError::Decode {
+        file: path.to_path_buf(),
+        message: e.to_string(),
+    };
     let mut limits = Limits::default();
     limits.decoding_buffer_size = MAX_NODES * 8;
     limits.ifd_value_size = 64 << 20;
     limits.intermediate_buffer_size = 512 << 20;
-    let mut d = Decoder::new(BufReader::new(f)).map_err(dec_err)?.with_limits(limits);
+    let mut d = Decoder::new(BufReader::new(f))
+        .map_err(dec_err)?
+        .with_limits(limits);
     let (w, h) = d.dimensions().map_err(dec_err)?;
     let (nx, ny) = (w as usize, h as usize);
-    if let Some(spp) = d.find_tag_unsigned::<u16>(Tag::SamplesPerPixel).map_err(dec_err)? {
+    if let Some(spp) = d
+        .find_tag_unsigned::<u16>(Tag::SamplesPerPixel)
+        .map_err(dec_err)?
+    {
         if spp != 1 {
             return Err(GeoTiffError::Bands { file, bands: spp });
         }
     }
     let nodes = nx.saturating_mul(ny);
     if nodes > MAX_NODES {
-        return Err(GeoTiffError::Size { file, source: GridError::TooBig { nx, ny, nodes, mb: nodes as f64 * 8.0 / 1e6, max: MAX_NODES } });
+        return Err(GeoTiffError::Size {
+            file,
+            source: GridError::TooBig {
+                nx,
+                ny,
+                nodes,
+                mb: nodes as f64 * 8.0 / 1e6,
+                max: MAX_NODES,
+            },
+        });
     }
     // Georeferencing.
-    let keys = d.find_tag(Tag::GeoKeyDirectoryTag).map_err(dec_err)?.map(|v| v.into_u16_vec()).transpose().map_err(dec_err)?.unwrap_or_default();
-    let key = |id: u16| -> Option<u16> { keys.get(4..).unwrap_or(&[]).chunks_exact(4).find(|k| k[0] == id && k[1] == 0).map(|k| k[3]) };
+    let keys = d
+        .find_tag(Tag::GeoKeyDirectoryTag)
+        .map_err(dec_err)?
+        .map(|v| v.into_u16_vec())
+        .transpose()
+        .map_err(dec_err)?
+        .unwrap_or_default();
+    let key = |id: u16| -> Option<u16> {
+        keys.get(4..)
+            .unwrap_or(&[])
+            .chunks_exact(4)
+            .find(|k| k[0] == id && k[1] == 0)
+            .map(|k| k[3])
+    };
     let pixel_is_point = key(KEY_RASTER_TYPE) == Some(2);
-    let epsg = key(KEY_PROJECTED_TYPE).or(key(KEY_GEOGRAPHIC_TYPE)).filter(|&c| c != 0 && c != 32767).map(u32::from);
-    let f64s = |d: &mut Decoder<BufReader<std::fs::File>>, t: Tag| -> Result<Option<Vec<f64>>, GeoTiffError> {
+    let epsg = key(KEY_PROJECTED_TYPE)
+        .or(key(KEY_GEOGRAPHIC_TYPE))
+        .filter(|&c| c != 0 && c != 32767)
+        .map(u32::from);
+    let f64s = |d: &mut Decoder<BufReader<std::fs::File>>,
+                t: Tag|
+     -> Result<Option<Vec<f64>>, GeoTiffError> {
         match d.find_tag(t).map_err(dec_err)? {
             Some(v) => Ok(Some(v.into_f64_vec().map_err(dec_err)?)),
             None => Ok(None),
@@ -92,7 +135,11 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
     let (x_ref, dx, y_ref, dy) = match (scale, tie, matrix) {
         (Some(s), Some(t), _) if s.len() >= 2 && t.len() >= 6 => {
             if !(s[0] > 0.0 && s[1] > 0.0) {
-                return Err(GeoTiffError::NotNorthUp { file, sx: s[0], sy: s[1] });
+                return Err(GeoTiffError::NotNorthUp {
+                    file,
+                    sx: s[0],
+                    sy: s[1],
+                });
             }
             (t[3] - t[0] * s[0], s[0], t[4] + t[1] * s[1], s[1])
         }
@@ -102,14 +149,21 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
                 return Err(GeoTiffError::Rotated { file, b, e });
             }
             if !(a > 0.0 && f < 0.0) {
-                return Err(GeoTiffError::NotNorthUp { file, sx: a, sy: -f });
+                return Err(GeoTiffError::NotNorthUp {
+                    file,
+                    sx: a,
+                    sy: -f,
+                });
             }
             (dd, a, hh, -f)
         }
         _ => return Err(GeoTiffError::NoGeoreference { file }),
     };
     let nodata: Option<f64> = match d.find_tag(Tag::Unknown(TAG_GDAL_NODATA)).map_err(dec_err)? {
-        Some(v) => v.into_string().ok().and_then(|s| s.trim_matches(char::from(0)).trim().parse::<f64>().ok()),
+        Some(v) => v
+            .into_string()
+            .ok()
+            .and_then(|s| s.trim_matches(char::from(0)).trim().parse::<f64>().ok()),
         None => None,
     };
     let data: Vec<f64> = match d.read_image().map_err(dec_err)? {
@@ -126,17 +180,27 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
         DecodingResult::F64(v) => v,
     };
     if data.len() != nodes {
-        return Err(GeoTiffError::Decode { file, message: format!("expected {nodes} samples, decoded {}", data.len()) });
+        return Err(GeoTiffError::Decode {
+            file,
+            message: format!("expected {nodes} samples, decoded {}", data.len()),
+        });
     }
     let half = if pixel_is_point { 0.0 } else { 0.5 };
     let x0 = x_ref + half * dx;
     let y_top = y_ref - half * dy;
-    let mut g = Grid2::new_empty(x0, y_top - (ny as f64 - 1.0) * dy, dx, dy, nx, ny).map_err(|source| GeoTiffError::Size { file: file.clone(), source })?;
+    let mut g =
+        Grid2::new_empty(x0, y_top - (ny as f64 - 1.0) * dy, dx, dy, nx, ny).map_err(|source| {
+            GeoTiffError::Size {
+                file: file.clone(),
+                source,
+            }
+        })?;
     for r in 0..ny {
         let j = ny - 1 - r;
         for c in 0..nx {
             let v = data[c + nx * r];
-            let is_nodata = !v.is_finite() || nodata.is_some_and(|nd| v == nd || (nd as f32 == v as f32 && nd.abs() > 1e30));
+            let is_nodata = !v.is_finite()
+                || nodata.is_some_and(|nd| v == nd || (nd as f32 == v as f32 && nd.abs() > 1e30));
             g.values[c + nx * j] = if is_nodata { f64::NAN } else { v };
         }
     }
@@ -147,20 +211,32 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
 
 /// Writes a grid as a Float32 GeoTIFF, atomically.
 pub fn write_geotiff(path: &Path, g: &Grid2) -> Result<(), GeoTiffError> {
-    let werr = |e: tiff::TiffError| GeoTiffError::Write { file: path.to_path_buf(), message: e.to_string() };
+    let werr = |e: tiff::TiffError| GeoTiffError::Write {
+        file: path.to_path_buf(),
+        message: e.to_string(),
+    };
     let mut buf = Cursor::new(Vec::new());
     {
         let mut enc = TiffEncoder::new(&mut buf).map_err(werr)?;
-        let mut img = enc.new_image::<colortype::Gray32Float>(g.nx as u32, g.ny as u32).map_err(werr)?;
+        let mut img = enc
+            .new_image::<colortype::Gray32Float>(g.nx as u32, g.ny as u32)
+            .map_err(werr)?;
         let (xmin, _, _, ymax) = g.extent();
-        img.encoder().write_tag(Tag::ModelPixelScaleTag, &[g.dx, g.dy, 0.0][..]).map_err(werr)?;
-        img.encoder().write_tag(Tag::ModelTiepointTag, &[0.0, 0.0, 0.0, xmin, ymax, 0.0][..]).map_err(werr)?;
+        img.encoder()
+            .write_tag(Tag::ModelPixelScaleTag, &[g.dx, g.dy, 0.0][..])
+            .map_err(werr)?;
+        img.encoder()
+            .write_tag(Tag::ModelTiepointTag, &[0.0, 0.0, 0.0, xmin, ymax, 0.0][..])
+            .map_err(werr)?;
         let mut keys: Vec<u16> = vec![1, 1, 0, 0];
         let mut push = |k: u16, v: u16| {
             keys.extend_from_slice(&[k, 0, 1, v]);
             keys[3] += 1;
         };
-        match g.epsg.and_then(|c| crate::geodesy::crs::Crs::from_epsg(c).ok()) {
+        match g
+            .epsg
+            .and_then(|c| crate::geodesy::crs::Crs::from_epsg(c).ok())
+        {
             Some(c) if c.is_geographic() => {
                 push(KEY_MODEL_TYPE, 2);
                 push(KEY_RASTER_TYPE, 1);
@@ -173,20 +249,36 @@ pub fn write_geotiff(path: &Path, g: &Grid2) -> Result<(), GeoTiffError> {
             }
             None => push(KEY_RASTER_TYPE, 1),
         }
-        img.encoder().write_tag(Tag::GeoKeyDirectoryTag, &keys[..]).map_err(werr)?;
-        img.encoder().write_tag(Tag::Unknown(TAG_GDAL_NODATA), &format!("{:e}", NODATA_WRITTEN as f64)[..]).map_err(werr)?;
+        img.encoder()
+            .write_tag(Tag::GeoKeyDirectoryTag, &keys[..])
+            .map_err(werr)?;
+        img.encoder()
+            .write_tag(
+                Tag::Unknown(TAG_GDAL_NODATA),
+                &format!("{:e}", NODATA_WRITTEN as f64)[..],
+            )
+            .map_err(werr)?;
         let mut data = vec![0f32; g.nx * g.ny];
         for r in 0..g.ny {
             let j = g.ny - 1 - r;
             for c in 0..g.nx {
                 let v = g.values[c + g.nx * j];
-                data[c + g.nx * r] = if v.is_finite() { v as f32 } else { NODATA_WRITTEN };
+                data[c + g.nx * r] = if v.is_finite() {
+                    v as f32
+                } else {
+                    NODATA_WRITTEN
+                };
             }
         }
         img.write_data(&data).map_err(werr)?;
     }
     let bytes = buf.into_inner();
-    crate::io::atomic::write_atomically::<GeoTiffError>(path, |w| w.write_all(&bytes).map_err(|e| GeoTiffError::Write { file: path.to_path_buf(), message: e.to_string() }))
+    crate::io::atomic::write_atomically::<GeoTiffError>(path, |w| {
+        w.write_all(&bytes).map_err(|e| GeoTiffError::Write {
+            file: path.to_path_buf(),
+            message: e.to_string(),
+        })
+    })
 }
 
 #[cfg(test)]
@@ -204,7 +296,10 @@ mod tests {
         let p = std::env::temp_dir().join(format!("fieldstone-gt-{}.tif", std::process::id()));
         write_geotiff(&p, &g).unwrap();
         let r = read_geotiff(&p).unwrap();
-        assert_eq!((r.nx, r.ny, r.dx, r.dy, r.x0, r.y0, r.epsg), (6, 4, 25.0, 25.0, 500_012.5, 7_000_012.5, Some(32755)));
+        assert_eq!(
+            (r.nx, r.ny, r.dx, r.dy, r.x0, r.y0, r.epsg),
+            (6, 4, 25.0, 25.0, 500_012.5, 7_000_012.5, Some(32755))
+        );
         for k in 0..24 {
             if k == 7 {
                 assert!(r.values[k].is_nan());

@@ -40,26 +40,63 @@ pub struct Grid2 {
 #[derive(Debug, Error, PartialEq)]
 pub enum GridError {
     #[error("point ({x:.2}, {y:.2}) is outside the grid, which covers x {xmin:.2} to {xmax:.2} and y {ymin:.2} to {ymax:.2}")]
-    Outside { x: f64, y: f64, xmin: f64, xmax: f64, ymin: f64, ymax: f64 },
+    Outside {
+        x: f64,
+        y: f64,
+        xmin: f64,
+        xmax: f64,
+        ymin: f64,
+        ymax: f64,
+    },
     #[error("point ({x:.2}, {y:.2}) falls where the grid has no data")]
     NoData { x: f64, y: f64 },
     #[error("a grid of {nx} × {ny} nodes ({nodes} nodes, {mb:.0} MB) is larger than the {max} nodes Fieldstone accepts; use a coarser cell")]
-    TooBig { nx: usize, ny: usize, nodes: usize, mb: f64, max: usize },
+    TooBig {
+        nx: usize,
+        ny: usize,
+        nodes: usize,
+        mb: f64,
+        max: usize,
+    },
     #[error("grid spacing must be positive and finite, got dx = {dx}, dy = {dy}")]
     BadSpacing { dx: f64, dy: f64 },
 }
 
 impl Grid2 {
     /// A grid filled with NaN, after checking its size.
-    pub fn new_empty(x0: f64, y0: f64, dx: f64, dy: f64, nx: usize, ny: usize) -> Result<Grid2, GridError> {
+    pub fn new_empty(
+        x0: f64,
+        y0: f64,
+        dx: f64,
+        dy: f64,
+        nx: usize,
+        ny: usize,
+    ) -> Result<Grid2, GridError> {
         if !(dx > 0.0 && dy > 0.0 && dx.is_finite() && dy.is_finite()) {
             return Err(GridError::BadSpacing { dx, dy });
         }
         let nodes = nx.saturating_mul(ny);
         if nodes > MAX_NODES {
-            return Err(GridError::TooBig { nx, ny, nodes, mb: nodes as f64 * 8.0 / 1e6, max: MAX_NODES });
+            return Err(GridError::TooBig {
+                nx,
+                ny,
+                nodes,
+                mb: nodes as f64 * 8.0 / 1e6,
+                max: MAX_NODES,
+            });
         }
-        Ok(Grid2 { x0, y0, dx, dy, nx, ny, values: vec![f64::NAN; nodes], epsg: None, units: String::new(), note: String::new() })
+        Ok(Grid2 {
+            x0,
+            y0,
+            dx,
+            dy,
+            nx,
+            ny,
+            values: vec![f64::NAN; nodes],
+            epsg: None,
+            units: String::new(),
+            note: String::new(),
+        })
     }
 
     pub fn get(&self, i: usize, j: usize) -> f64 {
@@ -91,7 +128,14 @@ impl Grid2 {
     pub fn sample(&self, x: f64, y: f64) -> Result<f64, GridError> {
         let (xmin, xmax, ymin, ymax) = self.extent();
         if !(x >= xmin && x <= xmax && y >= ymin && y <= ymax) {
-            return Err(GridError::Outside { x, y, xmin, xmax, ymin, ymax });
+            return Err(GridError::Outside {
+                x,
+                y,
+                xmin,
+                xmax,
+                ymin,
+                ymax,
+            });
         }
         let fx = ((x - self.x0) / self.dx).clamp(0.0, (self.nx - 1) as f64);
         let fy = ((y - self.y0) / self.dy).clamp(0.0, (self.ny - 1) as f64);
@@ -99,7 +143,12 @@ impl Grid2 {
         let j = (fy.floor() as usize).min(self.ny.saturating_sub(2));
         let (tx, ty) = (fx - i as f64, fy - j as f64);
         let (i1, j1) = ((i + 1).min(self.nx - 1), (j + 1).min(self.ny - 1));
-        let corners = [(i, j, (1.0 - tx) * (1.0 - ty)), (i1, j, tx * (1.0 - ty)), (i, j1, (1.0 - tx) * ty), (i1, j1, tx * ty)];
+        let corners = [
+            (i, j, (1.0 - tx) * (1.0 - ty)),
+            (i1, j, tx * (1.0 - ty)),
+            (i, j1, (1.0 - tx) * ty),
+            (i1, j1, tx * ty),
+        ];
         let (mut s, mut w) = (0.0, 0.0);
         for (a, b, wt) in corners {
             let v = self.get(a, b);
@@ -138,7 +187,12 @@ mod tests {
     #[test]
     fn bilinear_reproduces_a_plane_and_refuses_outside_points() {
         let g = plane();
-        for (x, y) in [(100.0, 200.0), (123.4, 245.6), (140.0, 260.0), (101.0, 259.0)] {
+        for (x, y) in [
+            (100.0, 200.0),
+            (123.4, 245.6),
+            (140.0, 260.0),
+            (101.0, 259.0),
+        ] {
             assert!((g.sample(x, y).unwrap() - (2.0 * x - 0.5 * y + 7.0)).abs() < 1e-9);
         }
         // Half a cell beyond the last node the edge is held.
@@ -155,7 +209,10 @@ mod tests {
         // Next to the hole: still a value from the other neighbours.
         assert!(g.sample(105.0, 210.0).unwrap().is_finite());
         // Exactly on the hole: no data.
-        assert!(matches!(g.sample(110.0, 220.0), Err(GridError::NoData { .. })));
+        assert!(matches!(
+            g.sample(110.0, 220.0),
+            Err(GridError::NoData { .. })
+        ));
     }
 
     #[test]

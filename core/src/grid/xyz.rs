@@ -14,11 +14,25 @@ pub enum XyzError {
     #[error("{file}: an XYZ grid needs three numeric columns (x, y, value); found {found}")]
     Columns { file: PathBuf, found: usize },
     #[error("{file}: line {line}: point ({x}, {y}) is not on the regular lattice of spacing {dx} × {dy} found in the file")]
-    OffLattice { file: PathBuf, line: u64, x: f64, y: f64, dx: f64, dy: f64 },
-    #[error("{file}: the points do not span a grid (need at least two distinct x and two distinct y)")]
+    OffLattice {
+        file: PathBuf,
+        line: u64,
+        x: f64,
+        y: f64,
+        dx: f64,
+        dy: f64,
+    },
+    #[error(
+        "{file}: the points do not span a grid (need at least two distinct x and two distinct y)"
+    )]
     Degenerate { file: PathBuf },
     #[error("{file}: line {line}: node ({x}, {y}) appears twice")]
-    Duplicate { file: PathBuf, line: u64, x: f64, y: f64 },
+    Duplicate {
+        file: PathBuf,
+        line: u64,
+        x: f64,
+        y: f64,
+    },
     #[error("{file}: {source}")]
     Size { file: PathBuf, source: GridError },
 }
@@ -28,12 +42,24 @@ pub enum XyzError {
 pub fn read_xyz(path: &Path, opts: &TextOptions) -> Result<Grid2, XyzError> {
     let file = path.to_path_buf();
     let t = read_table(path, opts, None)?;
-    let numeric: Vec<usize> = (0..t.columns.len()).filter(|&i| matches!(t.columns[i], ColumnData::Number(_))).collect();
-    let pick = |names: &[&str]| names.iter().find_map(|n| t.column_index(n)).filter(|i| numeric.contains(i));
+    let numeric: Vec<usize> = (0..t.columns.len())
+        .filter(|&i| matches!(t.columns[i], ColumnData::Number(_)))
+        .collect();
+    let pick = |names: &[&str]| {
+        names
+            .iter()
+            .find_map(|n| t.column_index(n))
+            .filter(|i| numeric.contains(i))
+    };
     let ix = pick(&["x", "easting", "east"]).or(numeric.first().copied());
     let iy = pick(&["y", "northing", "north"]).or(numeric.get(1).copied());
     let iz = pick(&["z", "value", "elevation", "elev", "height"]).or(numeric.get(2).copied());
-    let (Some(ix), Some(iy), Some(iz)) = (ix, iy, iz) else { return Err(XyzError::Columns { file, found: numeric.len() }) };
+    let (Some(ix), Some(iy), Some(iz)) = (ix, iy, iz) else {
+        return Err(XyzError::Columns {
+            file,
+            found: numeric.len(),
+        });
+    };
     let col = |i: usize| t.columns[i].as_numbers().unwrap_or(&[]);
     let (xs, ys, zs) = (col(ix), col(iy), col(iz));
     let lattice = |v: &[f64]| -> Option<(f64, f64)> {
@@ -43,15 +69,31 @@ pub fn read_xyz(path: &Path, opts: &TextOptions) -> Result<Grid2, XyzError> {
         if u.len() < 2 {
             return None;
         }
-        let d = u.windows(2).map(|w| w[1] - w[0]).fold(f64::INFINITY, f64::min);
+        let d = u
+            .windows(2)
+            .map(|w| w[1] - w[0])
+            .fold(f64::INFINITY, f64::min);
         Some((u[0], d))
     };
-    let (Some((x0, dx)), Some((y0, dy))) = (lattice(xs), lattice(ys)) else { return Err(XyzError::Degenerate { file }) };
-    let xmax = xs.iter().copied().filter(|a| a.is_finite()).fold(f64::NEG_INFINITY, f64::max);
-    let ymax = ys.iter().copied().filter(|a| a.is_finite()).fold(f64::NEG_INFINITY, f64::max);
+    let (Some((x0, dx)), Some((y0, dy))) = (lattice(xs), lattice(ys)) else {
+        return Err(XyzError::Degenerate { file });
+    };
+    let xmax = xs
+        .iter()
+        .copied()
+        .filter(|a| a.is_finite())
+        .fold(f64::NEG_INFINITY, f64::max);
+    let ymax = ys
+        .iter()
+        .copied()
+        .filter(|a| a.is_finite())
+        .fold(f64::NEG_INFINITY, f64::max);
     let nx = ((xmax - x0) / dx).round() as usize + 1;
     let ny = ((ymax - y0) / dy).round() as usize + 1;
-    let mut g = Grid2::new_empty(x0, y0, dx, dy, nx, ny).map_err(|source| XyzError::Size { file: file.clone(), source })?;
+    let mut g = Grid2::new_empty(x0, y0, dx, dy, nx, ny).map_err(|source| XyzError::Size {
+        file: file.clone(),
+        source,
+    })?;
     let mut seen = vec![false; nx * ny];
     for k in 0..t.n_rows() {
         let (x, y) = (xs[k], ys[k]);
@@ -61,11 +103,23 @@ pub fn read_xyz(path: &Path, opts: &TextOptions) -> Result<Grid2, XyzError> {
         let (fi, fj) = ((x - x0) / dx, (y - y0) / dy);
         let (i, j) = (fi.round(), fj.round());
         if (fi - i).abs() > 1e-6 || (fj - j).abs() > 1e-6 {
-            return Err(XyzError::OffLattice { file, line: t.lines[k], x, y, dx, dy });
+            return Err(XyzError::OffLattice {
+                file,
+                line: t.lines[k],
+                x,
+                y,
+                dx,
+                dy,
+            });
         }
         let idx = i as usize + nx * j as usize;
         if seen[idx] {
-            return Err(XyzError::Duplicate { file, line: t.lines[k], x, y });
+            return Err(XyzError::Duplicate {
+                file,
+                line: t.lines[k],
+                x,
+                y,
+            });
         }
         seen[idx] = true;
         g.values[idx] = zs[k];
@@ -81,14 +135,20 @@ mod tests {
     #[test]
     fn xyz_grids_read_in_any_order_with_gaps() {
         let p = std::env::temp_dir().join(format!("fieldstone-xyz-{}.xyz", std::process::id()));
-        std::fs::write(&p, "x y z\n10 20 1\n0 0 5\n10 0 6\n0 10 3\n10 10 4\n20 0 7\n").unwrap();
+        std::fs::write(
+            &p,
+            "x y z\n10 20 1\n0 0 5\n10 0 6\n0 10 3\n10 10 4\n20 0 7\n",
+        )
+        .unwrap();
         let g = read_xyz(&p, &TextOptions::default()).unwrap();
         assert_eq!((g.nx, g.ny, g.dx, g.dy), (3, 3, 10.0, 10.0));
         assert_eq!(g.get(1, 2), 1.0);
         assert_eq!(g.get(2, 0), 7.0);
         assert!(g.get(2, 2).is_nan());
         std::fs::write(&p, "x y z\n0 0 1\n10 0 1\n0 10 1\n3 10 1\n").unwrap();
-        let e = read_xyz(&p, &TextOptions::default()).unwrap_err().to_string();
+        let e = read_xyz(&p, &TextOptions::default())
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("line 5") || e.contains("lattice"), "{e}");
         std::fs::remove_file(&p).unwrap();
     }

@@ -87,12 +87,28 @@ impl Role {
 
     /// True for roles whose values are numbers.
     pub fn is_numeric(&self) -> bool {
-        !matches!(self, Role::Line | Role::Station | Role::Date | Role::Time | Role::DateTime | Role::PassThrough | Role::Ignore)
+        !matches!(
+            self,
+            Role::Line
+                | Role::Station
+                | Role::Date
+                | Role::Time
+                | Role::DateTime
+                | Role::PassThrough
+                | Role::Ignore
+        )
     }
 
     /// True for roles measured as a length.
     pub fn is_length(&self) -> bool {
-        matches!(self, Role::Easting | Role::Northing | Role::Elevation | Role::HeightAboveGround | Role::InstrumentHeight)
+        matches!(
+            self,
+            Role::Easting
+                | Role::Northing
+                | Role::Elevation
+                | Role::HeightAboveGround
+                | Role::InstrumentHeight
+        )
     }
 
     /// The units a column of this role may be given in; the first is the default.
@@ -159,13 +175,19 @@ pub struct ColumnSpec {
 
 /// Lower-case letters and digits only: "Mag_Corr (nT)" → "magcorrnt".
 pub fn normalise(name: &str) -> String {
-    name.chars().filter(|c| c.is_alphanumeric()).flat_map(|c| c.to_lowercase()).collect()
+    name.chars()
+        .filter(|c| c.is_alphanumeric())
+        .flat_map(|c| c.to_lowercase())
+        .collect()
 }
 
 /// Unit hinted by header text, if any (e.g. "ELEV_FT", "Height (m)", "grav_gu").
 pub fn unit_hint(name: &str) -> Option<Unit> {
     let lower = name.to_lowercase();
-    let tokens: Vec<&str> = lower.split(|c: char| !c.is_alphanumeric() && c != 'µ' && c != '/').filter(|t| !t.is_empty()).collect();
+    let tokens: Vec<&str> = lower
+        .split(|c: char| !c.is_alphanumeric() && c != 'µ' && c != '/')
+        .filter(|t| !t.is_empty())
+        .collect();
     let has = |t: &str| tokens.contains(&t);
     if has("usft") || lower.contains("us ft") || lower.contains("survey ft") {
         Some(Unit::UsSurveyFoot)
@@ -186,7 +208,9 @@ pub fn unit_hint(name: &str) -> Option<Unit> {
 
 /// Strips unit words from a normalised name so "elevft" matches "elev".
 fn strip_units(n: &str) -> &str {
-    for suffix in ["usft", "ft", "feet", "mgal", "gu", "nt", "m", "deg", "degrees"] {
+    for suffix in [
+        "usft", "ft", "feet", "mgal", "gu", "nt", "m", "deg", "degrees",
+    ] {
         if let Some(s) = n.strip_suffix(suffix) {
             if !s.is_empty() {
                 return s;
@@ -203,37 +227,156 @@ pub fn guess_role(name: &str, numeric: bool) -> Role {
     let n = strip_units(&full);
     let is = |words: &[&str]| words.iter().any(|w| *w == n || *w == full);
     let starts = |words: &[&str]| words.iter().any(|w| n.starts_with(w));
-    if is(&["x", "east", "easting", "eastings", "e", "xm", "utme", "utmeast", "mgae", "xcoord", "x_coord", "xutm"]) {
+    if is(&[
+        "x", "east", "easting", "eastings", "e", "xm", "utme", "utmeast", "mgae", "xcoord",
+        "x_coord", "xutm",
+    ]) {
         Role::Easting
-    } else if is(&["y", "north", "northing", "northings", "n", "ym", "utmn", "utmnorth", "mgan", "ycoord", "yutm"]) {
+    } else if is(&[
+        "y",
+        "north",
+        "northing",
+        "northings",
+        "n",
+        "ym",
+        "utmn",
+        "utmnorth",
+        "mgan",
+        "ycoord",
+        "yutm",
+    ]) {
         Role::Northing
-    } else if is(&["lon", "long", "longitude", "lng", "londeg", "longdd", "londd"]) {
+    } else if is(&[
+        "lon",
+        "long",
+        "longitude",
+        "lng",
+        "londeg",
+        "longdd",
+        "londd",
+    ]) {
         Role::Longitude
     } else if is(&["lat", "latitude", "latdeg", "latdd"]) {
         Role::Latitude
-    } else if is(&["clearance", "terrainclearance", "radalt", "radar", "agl", "heightaboveground", "sensorheight", "laseralt"]) {
+    } else if is(&[
+        "clearance",
+        "terrainclearance",
+        "radalt",
+        "radar",
+        "agl",
+        "heightaboveground",
+        "sensorheight",
+        "laseralt",
+    ]) {
         Role::HeightAboveGround
-    } else if is(&["instrumentheight", "insth", "hi", "meterheight", "instheight"]) {
+    } else if is(&[
+        "instrumentheight",
+        "insth",
+        "hi",
+        "meterheight",
+        "instheight",
+    ]) {
         Role::InstrumentHeight
-    } else if is(&["z", "elev", "elevation", "height", "alt", "altitude", "h", "ellipsoidalheight", "ellht", "gpsheight", "gpsalt", "orthometricheight", "dem", "heightm", "elevm", "heightmetres"]) {
+    } else if is(&[
+        "z",
+        "elev",
+        "elevation",
+        "height",
+        "alt",
+        "altitude",
+        "h",
+        "ellipsoidalheight",
+        "ellht",
+        "gpsheight",
+        "gpsalt",
+        "orthometricheight",
+        "dem",
+        "heightm",
+        "elevm",
+        "heightmetres",
+    ]) {
         Role::Elevation
-    } else if is(&["line", "lineno", "linenumber", "flightline", "ln", "linename", "lineid", "traverse"]) {
+    } else if is(&[
+        "line",
+        "lineno",
+        "linenumber",
+        "flightline",
+        "ln",
+        "linename",
+        "lineid",
+        "traverse",
+    ]) {
         Role::Line
-    } else if is(&["station", "stn", "sta", "stationid", "fid", "fiducial", "point", "pt", "stationno", "stationnumber", "id"]) {
+    } else if is(&[
+        "station",
+        "stn",
+        "sta",
+        "stationid",
+        "fid",
+        "fiducial",
+        "point",
+        "pt",
+        "stationno",
+        "stationnumber",
+        "id",
+    ]) {
         Role::Station
     } else if is(&["datetime", "timestamp", "utcdatetime", "isotime"]) {
         Role::DateTime
     } else if is(&["date", "utcdate", "surveydate", "day"]) {
         Role::Date
-    } else if is(&["time", "utc", "utctime", "gpstime", "timeutc", "clock", "hms", "localtime"]) {
+    } else if is(&[
+        "time",
+        "utc",
+        "utctime",
+        "gpstime",
+        "timeutc",
+        "clock",
+        "hms",
+        "localtime",
+    ]) {
         Role::Time
     } else if is(&["basegrav", "basegravity", "basereading", "basemgal"]) {
         Role::BaseGravity
-    } else if is(&["basemag", "basemagnetic", "basent", "basefield", "diurnal", "basestation"]) {
+    } else if is(&[
+        "basemag",
+        "basemagnetic",
+        "basent",
+        "basefield",
+        "diurnal",
+        "basestation",
+    ]) {
         Role::BaseMagnetic
-    } else if is(&["grav", "gravity", "g", "obsgrav", "gobs", "observedgravity", "reading", "dial", "gravreading", "meterreading", "gravmgal", "absgrav"]) {
+    } else if is(&[
+        "grav",
+        "gravity",
+        "g",
+        "obsgrav",
+        "gobs",
+        "observedgravity",
+        "reading",
+        "dial",
+        "gravreading",
+        "meterreading",
+        "gravmgal",
+        "absgrav",
+    ]) {
         Role::Gravity
-    } else if is(&["mag", "tmi", "totalfield", "magnetic", "magnetics", "field", "rawmag", "magraw", "tf", "bfield", "magnt", "tmint"]) || starts(&["mag"]) && numeric {
+    } else if is(&[
+        "mag",
+        "tmi",
+        "totalfield",
+        "magnetic",
+        "magnetics",
+        "field",
+        "rawmag",
+        "magraw",
+        "tf",
+        "bfield",
+        "magnt",
+        "tmint",
+    ]) || starts(&["mag"]) && numeric
+    {
         Role::Magnetic
     } else {
         Role::PassThrough
@@ -248,7 +391,11 @@ pub fn guess_column(name: &str, numeric: bool) -> ColumnSpec {
         Some(u) if allowed.contains(&u) => u,
         _ => allowed[0],
     };
-    ColumnSpec { name: name.to_string(), role, unit }
+    ColumnSpec {
+        name: name.to_string(),
+        role,
+        unit,
+    }
 }
 
 #[cfg(test)]
@@ -285,7 +432,10 @@ mod tests {
     fn units_come_from_the_header_when_they_fit_the_role() {
         assert_eq!(guess_column("ELEV_FT", true).unit, Unit::Foot);
         assert_eq!(guess_column("Elevation (m)", true).unit, Unit::Metre);
-        assert_eq!(guess_column("grav_gu", true).unit, Unit::MicrometrePerSecond2);
+        assert_eq!(
+            guess_column("grav_gu", true).unit,
+            Unit::MicrometrePerSecond2
+        );
         assert_eq!(guess_column("Gravity", true).unit, Unit::Mgal);
         assert_eq!(guess_column("TMI (nT)", true).unit, Unit::Nanotesla);
         // A feet hint on a magnetic column does not fit and is ignored.

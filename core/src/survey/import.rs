@@ -9,6 +9,7 @@ use crate::geodesy::crs::{Crs, CrsError};
 use crate::table::read::read_table;
 use crate::table::sniff::sniff;
 use crate::table::{ColumnData, ColumnKind, TableError, TextOptions};
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::io::Read;
 use std::path::{Path, PathBuf};
@@ -57,7 +58,8 @@ pub struct Survey {
     /// Seconds since 1970-01-01 UTC (or seconds of day when the file has times
     /// but no dates).
     pub time_s: Option<Vec<f64>>,
-    pub station: Option<Vec<String>>,
+    /// Station or fiducial identifiers (numbers or text).
+    pub station: Option<ColumnData>,
     pub lines: Vec<SurveyLine>,
     pub channels: Vec<Channel>,
     pub text_columns: Vec<(String, Vec<String>)>,
@@ -84,34 +86,82 @@ pub enum ImportError {
     #[error(transparent)]
     Table(#[from] TableError),
     #[error("{file}: the mapping lists {given} columns but the file has {found}")]
-    ColumnCount { file: PathBuf, given: usize, found: usize },
+    ColumnCount {
+        file: PathBuf,
+        given: usize,
+        found: usize,
+    },
     #[error("{file}: columns '{first}' and '{second}' both have the role {role}; give one of them another role")]
-    DuplicateRole { file: PathBuf, role: &'static str, first: String, second: String },
+    DuplicateRole {
+        file: PathBuf,
+        role: &'static str,
+        first: String,
+        second: String,
+    },
     #[error("{file}: no coordinates: give one column the role easting and one northing, or longitude and latitude")]
     NoCoordinates { file: PathBuf },
     #[error("{file}: column '{column}' has role {role} but unit {unit}, which does not fit; use one of: {allowed}")]
-    BadUnit { file: PathBuf, column: String, role: &'static str, unit: &'static str, allowed: String },
+    BadUnit {
+        file: PathBuf,
+        column: String,
+        role: &'static str,
+        unit: &'static str,
+        allowed: String,
+    },
     #[error("{file}: {message}")]
     Crs { file: PathBuf, message: String },
     #[error("{file}: line {line}, column '{column}': {message}")]
-    Value { file: PathBuf, line: u64, column: String, message: String },
+    Value {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        message: String,
+    },
 }
 
 impl ImportSpec {
     /// Detects the file layout and guesses every column's role and unit.
-    pub fn guess_for_file(path: &Path, text: &TextOptions, epsg: Option<u32>) -> Result<ImportSpec, ImportError> {
+    pub fn guess_for_file(
+        path: &Path,
+        text: &TextOptions,
+        epsg: Option<u32>,
+    ) -> Result<ImportSpec, ImportError> {
         let head = read_head(path)?;
         let sn = sniff(&head, path, text)?;
-        let columns = sn.names.iter().zip(&sn.kinds).map(|(n, k)| guess_column(n, *k == ColumnKind::Number)).collect::<Vec<_>>();
-        let text = TextOptions { delimiter: Some(sn.delimiter), has_header: Some(sn.has_header), dummy_value: text.dummy_value };
-        Ok(ImportSpec { text, columns, epsg, date_order: DateOrder::default(), time_format: TimeFormat::default(), split: SplitRule::default() })
+        let columns = sn
+            .names
+            .iter()
+            .zip(&sn.kinds)
+            .map(|(n, k)| guess_column(n, *k == ColumnKind::Number))
+            .collect::<Vec<_>>();
+        let text = TextOptions {
+            delimiter: Some(sn.delimiter),
+            has_header: Some(sn.has_header),
+            dummy_value: text.dummy_value,
+        };
+        Ok(ImportSpec {
+            text,
+            columns,
+            epsg,
+            date_order: DateOrder::default(),
+            time_format: TimeFormat::default(),
+            split: SplitRule::default(),
+        })
     }
 }
 
 fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
-    let f = std::fs::File::open(path).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+    let f = std::fs::File::open(path).map_err(|source| TableError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
     let mut head = Vec::new();
-    f.take(256 * 1024).read_to_end(&mut head).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+    f.take(256 * 1024)
+        .read_to_end(&mut head)
+        .map_err(|source| TableError::Read {
+            file: path.to_path_buf(),
+            source,
+        })?;
     Ok(head)
 }
 
@@ -136,30 +186,59 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
     let head = read_head(path)?;
     let sn = sniff(&head, path, &spec.text)?;
     if sn.names.len() != spec.columns.len() {
-        return Err(ImportError::ColumnCount { file, given: spec.columns.len(), found: sn.names.len() });
+        return Err(ImportError::ColumnCount {
+            file,
+            given: spec.columns.len(),
+            found: sn.names.len(),
+        });
     }
     // Check roles and units before reading the whole file.
     for (i, c) in spec.columns.iter().enumerate() {
         if !c.role.units().contains(&c.unit) {
-            let allowed = c.role.units().iter().map(|u| u.label()).collect::<Vec<_>>().join(", ");
-            return Err(ImportError::BadUnit { file, column: c.name.clone(), role: c.role.label(), unit: c.unit.label(), allowed });
+            let allowed = c
+                .role
+                .units()
+                .iter()
+                .map(|u| u.label())
+                .collect::<Vec<_>>()
+                .join(", ");
+            return Err(ImportError::BadUnit {
+                file,
+                column: c.name.clone(),
+                role: c.role.label(),
+                unit: c.unit.label(),
+                allowed,
+            });
         }
         if matches!(c.role, Role::PassThrough | Role::Ignore) {
             continue;
         }
         if let Some(j) = spec.columns[..i].iter().position(|d| d.role == c.role) {
-            return Err(ImportError::DuplicateRole { file, role: c.role.label(), first: spec.columns[j].name.clone(), second: c.name.clone() });
+            return Err(ImportError::DuplicateRole {
+                file,
+                role: c.role.label(),
+                first: spec.columns[j].name.clone(),
+                second: c.name.clone(),
+            });
         }
     }
     let find = |r: Role| spec.columns.iter().position(|c| c.role == r);
-    let (ix, iy, ilon, ilat) = (find(Role::Easting), find(Role::Northing), find(Role::Longitude), find(Role::Latitude));
+    let (ix, iy, ilon, ilat) = (
+        find(Role::Easting),
+        find(Role::Northing),
+        find(Role::Longitude),
+        find(Role::Latitude),
+    );
     let projected_given = ix.is_some() && iy.is_some();
     let geographic_given = ilon.is_some() && ilat.is_some();
     if !projected_given && !geographic_given {
         return Err(ImportError::NoCoordinates { file });
     }
     let given_crs = match spec.epsg {
-        Some(code) => Some(Crs::from_epsg(code).map_err(|e| ImportError::Crs { file: file.clone(), message: e.to_string() })?),
+        Some(code) => Some(Crs::from_epsg(code).map_err(|e| ImportError::Crs {
+            file: file.clone(),
+            message: e.to_string(),
+        })?),
         None => None,
     };
     if projected_given && !geographic_given && given_crs.is_some_and(|c| c.is_geographic()) {
@@ -177,14 +256,19 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         .zip(&sn.kinds)
         .map(|(c, k)| match c.role {
             r if r.is_numeric() => ColumnKind::Number,
-            Role::PassThrough => *k,
+            Role::PassThrough | Role::Line | Role::Station | Role::Time => *k,
             _ => ColumnKind::Text,
         })
         .collect();
     let table = read_table(path, &spec.text, Some(&kinds))?;
     let n = table.n_rows();
     let mut warnings = Vec::new();
-    let dummies: Vec<(String, usize)> = table.names.iter().cloned().zip(table.dummies.iter().copied()).collect();
+    let dummies: Vec<(String, usize)> = table
+        .names
+        .iter()
+        .cloned()
+        .zip(table.dummies.iter().copied())
+        .collect();
     let file_lines = table.lines;
     let mut cols: Vec<Option<ColumnData>> = table.columns.into_iter().map(Some).collect();
     let mut take_numbers = |i: usize| -> Vec<f64> {
@@ -211,13 +295,20 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
                     file,
                     line: file_lines[k],
                     column: spec.columns[b].name.clone(),
-                    message: format!("latitude {v} is outside −90 to 90 (are latitude and longitude swapped?)"),
+                    message: format!(
+                        "latitude {v} is outside −90 to 90 (are latitude and longitude swapped?)"
+                    ),
                 });
             }
         }
         for (k, &v) in lo.iter().enumerate() {
             if v.is_finite() && !(-360.0..=360.0).contains(&v) {
-                return Err(ImportError::Value { file, line: file_lines[k], column: spec.columns[a].name.clone(), message: format!("longitude {v} is outside −360 to 360") });
+                return Err(ImportError::Value {
+                    file,
+                    line: file_lines[k],
+                    column: spec.columns[a].name.clone(),
+                    message: format!("longitude {v} is outside −360 to 360"),
+                });
             }
         }
         lat = Some(la);
@@ -232,10 +323,19 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         (g, _) => {
             // Longitude/latitude only: choose the UTM zone of the survey centre.
             let geo = g.map(|c| c.epsg()).unwrap_or(4326);
-            let (la, lo) = (lat.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0), lon.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0));
+            let (la, lo) = (
+                lat.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0),
+                lon.as_ref().map(|v| mean_finite(v)).unwrap_or(0.0),
+            );
             let code = utm_for(geo, la, lo).ok_or_else(|| ImportError::Crs { file: file.clone(), message: format!("no UTM/MGA zone is known on the datum of EPSG:{geo} at latitude {la:.2}, longitude {lo:.2}; give a projected EPSG code") })?;
-            let c = Crs::from_epsg(code).map_err(|e| ImportError::Crs { file: file.clone(), message: e.to_string() })?;
-            warnings.push(format!("coordinates projected to {} (chosen from the survey centre)", c.name()));
+            let c = Crs::from_epsg(code).map_err(|e| ImportError::Crs {
+                file: file.clone(),
+                message: e.to_string(),
+            })?;
+            warnings.push(format!(
+                "coordinates projected to {} (chosen from the survey centre)",
+                c.name()
+            ));
             Some(c)
         }
     };
@@ -244,60 +344,112 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         y = take_numbers(iy.unwrap_or(0));
         if lat.is_none() {
             if let Some(c) = &crs {
-                let (mut la, mut lo) = (vec![f64::NAN; n], vec![f64::NAN; n]);
-                for k in 0..n {
-                    if x[k].is_finite() && y[k].is_finite() {
-                        let (p, q) = c.unproject(x[k], y[k]).map_err(|e| crs_value(&file, file_lines[k], &spec.columns[ix.unwrap_or(0)].name, e))?;
-                        la[k] = p;
-                        lo[k] = q;
-                    }
+                let geo: Vec<Result<(f64, f64), CrsError>> = x
+                    .par_iter()
+                    .zip(y.par_iter())
+                    .map(|(&a, &b)| {
+                        if a.is_finite() && b.is_finite() {
+                            c.unproject(a, b)
+                        } else {
+                            Ok((f64::NAN, f64::NAN))
+                        }
+                    })
+                    .collect();
+                let (mut la, mut lo) = (Vec::with_capacity(n), Vec::with_capacity(n));
+                for (k, r) in geo.into_iter().enumerate() {
+                    let (p, q) = r.map_err(|e| {
+                        crs_value(&file, file_lines[k], &spec.columns[ix.unwrap_or(0)].name, e)
+                    })?;
+                    la.push(p);
+                    lo.push(q);
                 }
                 lat = Some(la);
                 lon = Some(lo);
             }
         }
     } else if let (Some(c), Some(la), Some(lo)) = (&crs, &lat, &lon) {
-        x = vec![f64::NAN; n];
-        y = vec![f64::NAN; n];
-        for k in 0..n {
-            if la[k].is_finite() && lo[k].is_finite() {
-                let (e, nn) = c.project(la[k], lo[k]).map_err(|e| crs_value(&file, file_lines[k], &spec.columns[ilat.unwrap_or(0)].name, e))?;
-                x[k] = e;
-                y[k] = nn;
-            }
+        let xy: Vec<Result<(f64, f64), CrsError>> = la
+            .par_iter()
+            .zip(lo.par_iter())
+            .map(|(&p, &q)| {
+                if p.is_finite() && q.is_finite() {
+                    c.project(p, q)
+                } else {
+                    Ok((f64::NAN, f64::NAN))
+                }
+            })
+            .collect();
+        x = Vec::with_capacity(n);
+        y = Vec::with_capacity(n);
+        for (k, r) in xy.into_iter().enumerate() {
+            let (e, nn) = r.map_err(|e| {
+                crs_value(
+                    &file,
+                    file_lines[k],
+                    &spec.columns[ilat.unwrap_or(0)].name,
+                    e,
+                )
+            })?;
+            x.push(e);
+            y.push(nn);
         }
     }
-    let missing_xy = x.iter().zip(&y).filter(|(a, b)| !a.is_finite() || !b.is_finite()).count();
+    let missing_xy = x
+        .iter()
+        .zip(&y)
+        .filter(|(a, b)| !a.is_finite() || !b.is_finite())
+        .count();
     if missing_xy > 0 {
-        warnings.push(format!("{missing_xy} rows have no coordinates (dummy or empty); they are kept and flagged"));
+        warnings.push(format!(
+            "{missing_xy} rows have no coordinates (dummy or empty); they are kept and flagged"
+        ));
     }
     // Elevation, with a plausibility check for feet given as metres.
     let elevation_m = find(Role::Elevation).map(|i| {
         let v = take_numbers(i);
         let c = &spec.columns[i];
-        let max = v.iter().copied().filter(|a| a.is_finite()).fold(f64::NEG_INFINITY, f64::max);
-        if c.unit == Unit::Metre && super::columns::unit_hint(&c.name).is_some_and(|u| matches!(u, Unit::Foot | Unit::UsSurveyFoot)) {
-            warnings.push(format!("column '{}' is read as metres but its name says feet; check its unit", c.name));
+        let max = v
+            .iter()
+            .copied()
+            .filter(|a| a.is_finite())
+            .fold(f64::NEG_INFINITY, f64::max);
+        if c.unit == Unit::Metre
+            && super::columns::unit_hint(&c.name)
+                .is_some_and(|u| matches!(u, Unit::Foot | Unit::UsSurveyFoot))
+        {
+            warnings.push(format!(
+                "column '{}' is read as metres but its name says feet; check its unit",
+                c.name
+            ));
         }
         if max > 8_900.0 {
-            warnings.push(format!("column '{}' reaches {max:.0} m, higher than any point on Earth; are these feet?", c.name));
+            warnings.push(format!(
+                "column '{}' reaches {max:.0} m, higher than any point on Earth; are these feet?",
+                c.name
+            ));
         }
         v
     });
     // Time.
     let time_s = read_times(spec, &mut cols, &file_lines, &file, &mut warnings)?;
-    let station = find(Role::Station).and_then(|i| match cols[i].take() {
-        Some(ColumnData::Text(v)) => Some(v),
-        _ => None,
-    });
+    let station = find(Role::Station).and_then(|i| cols[i].take());
     let lines = match find(Role::Line).and_then(|i| cols[i].take()) {
-        Some(ColumnData::Text(v)) => lines_from_column(&v),
-        _ => split_lines(&x, &y, &spec.split),
+        Some(c) => lines_from_column(&c),
+        None => split_lines(&x, &y, &spec.split),
     };
     let mut channels = Vec::new();
     let mut text_columns = Vec::new();
     for (i, c) in spec.columns.iter().enumerate() {
-        let keep = matches!(c.role, Role::Gravity | Role::Magnetic | Role::BaseGravity | Role::BaseMagnetic | Role::InstrumentHeight | Role::HeightAboveGround | Role::PassThrough);
+        let keep = matches!(
+            c.role,
+            Role::Gravity
+                | Role::Magnetic
+                | Role::BaseGravity
+                | Role::BaseMagnetic
+                | Role::InstrumentHeight
+                | Role::HeightAboveGround
+                | Role::PassThrough
+        );
         if !keep {
             continue;
         }
@@ -313,21 +465,50 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
                     r if r.is_length() => "m",
                     _ => "",
                 };
-                channels.push(Channel { name: c.name.clone(), role: c.role, unit, values: v });
+                channels.push(Channel {
+                    name: c.name.clone(),
+                    role: c.role,
+                    unit,
+                    values: v,
+                });
             }
             Some(ColumnData::Text(v)) => text_columns.push((c.name.clone(), v)),
             None => {}
         }
     }
-    Ok(Survey { source: file, crs, x, y, lat, lon, elevation_m, time_s, station, lines, channels, text_columns, file_lines, dummies, warnings })
+    Ok(Survey {
+        source: file,
+        crs,
+        x,
+        y,
+        lat,
+        lon,
+        elevation_m,
+        time_s,
+        station,
+        lines,
+        channels,
+        text_columns,
+        file_lines,
+        dummies,
+        warnings,
+    })
 }
 
 fn crs_value(file: &Path, line: u64, column: &str, e: CrsError) -> ImportError {
-    ImportError::Value { file: file.to_path_buf(), line, column: column.to_string(), message: e.to_string() }
+    ImportError::Value {
+        file: file.to_path_buf(),
+        line,
+        column: column.to_string(),
+        message: e.to_string(),
+    }
 }
 
 fn mean_finite(v: &[f64]) -> f64 {
-    let (s, n) = v.iter().filter(|a| a.is_finite()).fold((0.0, 0usize), |(s, n), a| (s + a, n + 1));
+    let (s, n) = v
+        .iter()
+        .filter(|a| a.is_finite())
+        .fold((0.0, 0usize), |(s, n), a| (s + a, n + 1));
     if n == 0 {
         0.0
     } else {
@@ -335,25 +516,88 @@ fn mean_finite(v: &[f64]) -> f64 {
     }
 }
 
-fn read_times(spec: &ImportSpec, cols: &mut [Option<ColumnData>], lines: &[u64], file: &Path, warnings: &mut Vec<String>) -> Result<Option<Vec<f64>>, ImportError> {
+fn read_times(
+    spec: &ImportSpec,
+    cols: &mut [Option<ColumnData>],
+    lines: &[u64],
+    file: &Path,
+    warnings: &mut Vec<String>,
+) -> Result<Option<Vec<f64>>, ImportError> {
     let find = |r: Role| spec.columns.iter().position(|c| c.role == r);
     let text_of = |cols: &mut [Option<ColumnData>], i: usize| match cols[i].take() {
         Some(ColumnData::Text(v)) => v,
         _ => Vec::new(),
     };
-    let bad = |k: usize, i: usize, message: String| ImportError::Value { file: file.to_path_buf(), line: lines[k], column: spec.columns[i].name.clone(), message };
+    let bad = |k: usize, i: usize, message: String| ImportError::Value {
+        file: file.to_path_buf(),
+        line: lines[k],
+        column: spec.columns[i].name.clone(),
+        message,
+    };
     if let Some(i) = find(Role::DateTime) {
         let v = text_of(cols, i);
         let mut out = Vec::with_capacity(v.len());
         for (k, t) in v.iter().enumerate() {
-            out.push(if t.is_empty() || crate::table::is_dummy_token(t) { f64::NAN } else { parse_datetime(t, spec.date_order).map_err(|m| bad(k, i, m))? });
+            out.push(if t.is_empty() || crate::table::is_dummy_token(t) {
+                f64::NAN
+            } else {
+                parse_datetime(t, spec.date_order).map_err(|m| bad(k, i, m))?
+            });
         }
         return Ok(Some(out));
     }
-    let Some(it) = find(Role::Time) else { return Ok(None) };
-    let times = text_of(cols, it);
-    let all_below_24 = times.iter().filter_map(|t| t.parse::<f64>().ok()).all(|v| v < 24.0);
+    let Some(it) = find(Role::Time) else {
+        return Ok(None);
+    };
     let dates = find(Role::Date).map(|i| (i, text_of(cols, i)));
+    if let Some(ColumnData::Number(v)) = &cols[it] {
+        // Seconds of day or decimal hours, read as numbers.
+        let hours = match spec.time_format {
+            TimeFormat::DecimalHours => true,
+            TimeFormat::SecondsOfDay => false,
+            _ => v.iter().filter(|a| a.is_finite()).all(|&a| a < 24.0),
+        };
+        let mut out = cols[it]
+            .take()
+            .and_then(|c| {
+                if let ColumnData::Number(v) = c {
+                    Some(v)
+                } else {
+                    None
+                }
+            })
+            .unwrap_or_default();
+        for (k, t) in out.iter_mut().enumerate() {
+            if !t.is_finite() {
+                continue;
+            }
+            let sod = if hours { *t * 3600.0 } else { *t };
+            if !(0.0..=86_401.0).contains(&sod) {
+                return Err(bad(
+                    k,
+                    it,
+                    format!("{} is not a time of day ({sod} s); set the time format", *t),
+                ));
+            }
+            let day = match &dates {
+                Some((i, d)) if crate::table::is_dummy_token(&d[k]) => f64::NAN,
+                Some((i, d)) => {
+                    parse_date(&d[k], spec.date_order).map_err(|m| bad(k, *i, m))? as f64
+                }
+                None => 0.0,
+            };
+            *t = day * 86_400.0 + sod;
+        }
+        if dates.is_none() {
+            warnings.push("times have no dates: they are seconds of day, and readings on different days cannot be told apart".into());
+        }
+        return Ok(Some(out));
+    }
+    let times = text_of(cols, it);
+    let all_below_24 = times
+        .iter()
+        .filter_map(|t| t.parse::<f64>().ok())
+        .all(|v| v < 24.0);
     if dates.is_none() {
         warnings.push("times have no dates: they are seconds of day, and readings on different days cannot be told apart".into());
     }
@@ -363,7 +607,8 @@ fn read_times(spec: &ImportSpec, cols: &mut [Option<ColumnData>], lines: &[u64],
             out.push(f64::NAN);
             continue;
         }
-        let sod = parse_time_of_day(t, spec.time_format, all_below_24).map_err(|m| bad(k, it, m))?;
+        let sod =
+            parse_time_of_day(t, spec.time_format, all_below_24).map_err(|m| bad(k, it, m))?;
         let day = match &dates {
             Some((i, d)) => {
                 let dt = &d[k];
@@ -385,7 +630,10 @@ mod tests {
     use super::*;
 
     fn write(name: &str, text: &str) -> PathBuf {
-        let p = std::env::temp_dir().join(format!("fieldstone-import-{name}-{}.csv", std::process::id()));
+        let p = std::env::temp_dir().join(format!(
+            "fieldstone-import-{name}-{}.csv",
+            std::process::id()
+        ));
         std::fs::write(&p, text).unwrap();
         p
     }
@@ -399,10 +647,23 @@ mod tests {
              L10,2,500025,7000000,1010,14/03/2026,09:35:00,*\n\
              L20,1,500000,7000100,990,14/03/2026,10:00:00,9781230.0\n",
         );
-        let mut spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
+        let mut spec =
+            ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
         spec.date_order = DateOrder::DayMonthYear;
         let roles: Vec<Role> = spec.columns.iter().map(|c| c.role).collect();
-        assert_eq!(roles, [Role::Line, Role::Station, Role::Easting, Role::Northing, Role::Elevation, Role::Date, Role::Time, Role::Gravity]);
+        assert_eq!(
+            roles,
+            [
+                Role::Line,
+                Role::Station,
+                Role::Easting,
+                Role::Northing,
+                Role::Elevation,
+                Role::Date,
+                Role::Time,
+                Role::Gravity
+            ]
+        );
         let s = import_survey(&p, &spec).unwrap();
         assert_eq!(s.n_rows(), 3);
         assert_eq!(s.lines.len(), 2);
@@ -420,12 +681,19 @@ mod tests {
 
     #[test]
     fn geographic_input_is_projected_to_a_chosen_zone() {
-        let p = write("geo", "lat,lon,mag\n-33.5,151.2,57000\n-33.5,151.21,57001\n");
+        let p = write(
+            "geo",
+            "lat,lon,mag\n-33.5,151.2,57000\n-33.5,151.21,57001\n",
+        );
         let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
         let s = import_survey(&p, &spec).unwrap();
         assert_eq!(s.crs.unwrap().epsg(), 32756);
         assert!(s.warnings.iter().any(|w| w.contains("UTM zone 56S")));
-        assert!((s.x[1] - s.x[0] - 928.0).abs() < 5.0, "0.01° of longitude at 33.5° S is about 928 m: {}", s.x[1] - s.x[0]);
+        assert!(
+            (s.x[1] - s.x[0] - 928.0).abs() < 5.0,
+            "0.01° of longitude at 33.5° S is about 928 m: {}",
+            s.x[1] - s.x[0]
+        );
     }
 
     #[test]
@@ -436,24 +704,44 @@ mod tests {
         assert!(e.contains("line 2") && e.contains("swapped"), "{e}");
         let p = write("nocoords", "a,b,mag\n1,2,3\n");
         let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
-        assert!(matches!(import_survey(&p, &spec), Err(ImportError::NoCoordinates { .. })));
+        assert!(matches!(
+            import_survey(&p, &spec),
+            Err(ImportError::NoCoordinates { .. })
+        ));
         let p = write("epsg", "x,y,mag\n1,2,3\n");
-        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(9999)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(9999))
+            .and_then(|s| import_survey(&p, &s))
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("EPSG:9999"), "{e}");
         let p = write("geoxy", "x,y,mag\n1,2,3\n");
-        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(4326)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(4326))
+            .and_then(|s| import_survey(&p, &s))
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("geographic"), "{e}");
         let p = write("time", "x,y,time,mag\n1,2,09:61,3\n");
-        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).and_then(|s| import_survey(&p, &s)).unwrap_err().to_string();
+        let e = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755))
+            .and_then(|s| import_survey(&p, &s))
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("line 2") && e.contains("'time'"), "{e}");
         let p = write("feet", "x,y,elevation_ft,mag\n1,2,3,4\n");
-        let mut spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
+        let mut spec =
+            ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32755)).unwrap();
         spec.columns[2].unit = Unit::Metre;
         let s = import_survey(&p, &spec).unwrap();
-        assert!(s.warnings.iter().any(|w| w.contains("feet")), "{:?}", s.warnings);
+        assert!(
+            s.warnings.iter().any(|w| w.contains("feet")),
+            "{:?}",
+            s.warnings
+        );
         let mut spec2 = spec.clone();
         spec2.columns[3].role = Role::Easting;
         spec2.columns[3].unit = Unit::Metre;
-        assert!(matches!(import_survey(&p, &spec2), Err(ImportError::DuplicateRole { .. })));
+        assert!(matches!(
+            import_survey(&p, &spec2),
+            Err(ImportError::DuplicateRole { .. })
+        ));
     }
 }

@@ -55,7 +55,10 @@ impl ChannelFlags {
                 b
             })
             .collect();
-        Some(ChannelFlags { channel: channel.to_string(), bits })
+        Some(ChannelFlags {
+            channel: channel.to_string(),
+            bits,
+        })
     }
 
     /// Applies manual edits in order. Restoring clears a spike flag or a
@@ -100,15 +103,27 @@ impl Default for SpikeRule {
 
 /// Flags spikes of `values` along each line (sets [`flag::SPIKE`]); returns
 /// the number flagged. Readings already unusable are skipped.
-pub fn detect_spikes(values: &[f64], lines: &[SurveyLine], flags: &mut ChannelFlags, rule: SpikeRule) -> usize {
+pub fn detect_spikes(
+    values: &[f64],
+    lines: &[SurveyLine],
+    flags: &mut ChannelFlags,
+    rule: SpikeRule,
+) -> usize {
     let mut found = 0;
     for line in lines {
-        let rows: Vec<usize> = line.rows.iter().map(|&r| r as usize).filter(|&r| flags.bits[r] == 0 && values[r].is_finite()).collect();
+        let rows: Vec<usize> = line
+            .rows
+            .iter()
+            .map(|&r| r as usize)
+            .filter(|&r| flags.bits[r] == 0 && values[r].is_finite())
+            .collect();
         if rows.len() < 7 {
             continue;
         }
         let v: Vec<f64> = rows.iter().map(|&r| values[r]).collect();
-        let d4: Vec<f64> = (2..v.len() - 2).map(|i| v[i - 2] - 4.0 * v[i - 1] + 6.0 * v[i] - 4.0 * v[i + 1] + v[i + 2]).collect();
+        let d4: Vec<f64> = (2..v.len() - 2)
+            .map(|i| v[i - 2] - 4.0 * v[i - 1] + 6.0 * v[i] - 4.0 * v[i + 1] + v[i + 2])
+            .collect();
         let mut abs: Vec<f64> = d4.iter().map(|d| d.abs()).collect();
         let med = median(&mut d4.clone()).unwrap_or(0.0);
         let mut dev: Vec<f64> = d4.iter().map(|d| (d - med).abs()).collect();
@@ -117,7 +132,11 @@ pub fn detect_spikes(values: &[f64], lines: &[SurveyLine], flags: &mut ChannelFl
         for k in 0..d4.len() {
             let a = (d4[k] - med).abs();
             let left = if k > 0 { (d4[k - 1] - med).abs() } else { 0.0 };
-            let right = if k + 1 < d4.len() { (d4[k + 1] - med).abs() } else { 0.0 };
+            let right = if k + 1 < d4.len() {
+                (d4[k + 1] - med).abs()
+            } else {
+                0.0
+            };
             if a > rule.threshold * scale && a >= left && a >= right {
                 flags.bits[rows[k + 2]] |= flag::SPIKE;
                 found += 1;
@@ -148,13 +167,34 @@ pub fn line_stats(s: &Survey, values: &[f64], flags: &ChannelFlags) -> Vec<LineS
     s.lines
         .iter()
         .map(|l| {
-            let use_rows: Vec<usize> = l.rows.iter().map(|&r| r as usize).filter(|&r| flags.usable(r)).collect();
+            let use_rows: Vec<usize> = l
+                .rows
+                .iter()
+                .map(|&r| r as usize)
+                .filter(|&r| flags.usable(r))
+                .collect();
             let vals: Vec<f64> = use_rows.iter().map(|&r| values[r]).collect();
             let n = vals.len();
-            let mean = if n > 0 { vals.iter().sum::<f64>() / n as f64 } else { f64::NAN };
-            let var = if n > 1 { vals.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1) as f64 } else { f64::NAN };
-            let pos: Vec<usize> = l.rows.iter().map(|&r| r as usize).filter(|&r| s.x[r].is_finite() && s.y[r].is_finite()).collect();
-            let mut steps: Vec<f64> = pos.windows(2).map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]])).collect();
+            let mean = if n > 0 {
+                vals.iter().sum::<f64>() / n as f64
+            } else {
+                f64::NAN
+            };
+            let var = if n > 1 {
+                vals.iter().map(|v| (v - mean).powi(2)).sum::<f64>() / (n - 1) as f64
+            } else {
+                f64::NAN
+            };
+            let pos: Vec<usize> = l
+                .rows
+                .iter()
+                .map(|&r| r as usize)
+                .filter(|&r| s.x[r].is_finite() && s.y[r].is_finite())
+                .collect();
+            let mut steps: Vec<f64> = pos
+                .windows(2)
+                .map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]]))
+                .collect();
             LineStats {
                 line: l.name.clone(),
                 n_rows: l.rows.len(),
@@ -184,11 +224,14 @@ pub struct RepeatStation {
 /// Stations occupied more than once (by station id), with the spread of
 /// `values` among their usable readings.
 pub fn repeat_stations(s: &Survey, values: &[f64], flags: &ChannelFlags) -> Vec<RepeatStation> {
-    let Some(ids) = &s.station else { return Vec::new() };
-    let mut groups: BTreeMap<&str, Vec<f64>> = BTreeMap::new();
-    for (r, id) in ids.iter().enumerate() {
+    let Some(ids) = &s.station else {
+        return Vec::new();
+    };
+    let mut groups: BTreeMap<String, Vec<f64>> = BTreeMap::new();
+    for (r, &v) in values.iter().enumerate().take(ids.len()) {
+        let id = ids.text_at(r);
         if !id.is_empty() && flags.usable(r) {
-            groups.entry(id.as_str()).or_default().push(values[r]);
+            groups.entry(id.into_owned()).or_default().push(v);
         }
     }
     groups
@@ -198,8 +241,14 @@ pub fn repeat_stations(s: &Survey, values: &[f64], flags: &ChannelFlags) -> Vec<
             let n = v.len() as f64;
             let mean = v.iter().sum::<f64>() / n;
             let std = (v.iter().map(|a| (a - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt();
-            let range = v.iter().copied().fold(f64::NEG_INFINITY, f64::max) - v.iter().copied().fold(f64::INFINITY, f64::min);
-            RepeatStation { station: id.to_string(), occupations: v.len(), range, std }
+            let range = v.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+                - v.iter().copied().fold(f64::INFINITY, f64::min);
+            RepeatStation {
+                station: id.to_string(),
+                occupations: v.len(),
+                range,
+                std,
+            }
         })
         .collect()
 }
@@ -222,11 +271,19 @@ pub fn spacing(s: &Survey) -> Spacing {
     let mut dirs = (0.0, 0.0);
     let mut centroids = Vec::new();
     for l in &s.lines {
-        let pos: Vec<usize> = l.rows.iter().map(|&r| r as usize).filter(|&r| s.x[r].is_finite() && s.y[r].is_finite()).collect();
+        let pos: Vec<usize> = l
+            .rows
+            .iter()
+            .map(|&r| r as usize)
+            .filter(|&r| s.x[r].is_finite() && s.y[r].is_finite())
+            .collect();
         if pos.len() < 2 {
             continue;
         }
-        steps.extend(pos.windows(2).map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]])));
+        steps.extend(
+            pos.windows(2)
+                .map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]])),
+        );
         let (a, b) = (pos[0], pos[pos.len() - 1]);
         let (dx, dy) = (s.x[b] - s.x[a], s.y[b] - s.y[a]);
         // Double the angle so that opposite flight directions add up.
@@ -235,15 +292,29 @@ pub fn spacing(s: &Survey) -> Spacing {
         dirs.0 += len * (2.0 * th).cos();
         dirs.1 += len * (2.0 * th).sin();
         let n = pos.len() as f64;
-        centroids.push((pos.iter().map(|&r| s.x[r]).sum::<f64>() / n, pos.iter().map(|&r| s.y[r]).sum::<f64>() / n));
+        centroids.push((
+            pos.iter().map(|&r| s.x[r]).sum::<f64>() / n,
+            pos.iter().map(|&r| s.y[r]).sum::<f64>() / n,
+        ));
     }
     let th = 0.5 * dirs.1.atan2(dirs.0);
     let (ux, uy) = (th.cos(), th.sin());
-    let mut offsets: Vec<f64> = centroids.iter().map(|(cx, cy)| -cx * uy + cy * ux).collect();
+    let mut offsets: Vec<f64> = centroids
+        .iter()
+        .map(|(cx, cy)| -cx * uy + cy * ux)
+        .collect();
     offsets.sort_by(|a, b| a.total_cmp(b));
-    let mut gaps: Vec<f64> = offsets.windows(2).map(|w| w[1] - w[0]).filter(|g| *g > 0.0).collect();
+    let mut gaps: Vec<f64> = offsets
+        .windows(2)
+        .map(|w| w[1] - w[0])
+        .filter(|g| *g > 0.0)
+        .collect();
     let az = (90.0 - th.to_degrees()).rem_euclid(180.0);
-    Spacing { along_line_m: median(&mut steps).unwrap_or(f64::NAN), line_spacing_m: median(&mut gaps).unwrap_or(f64::NAN), line_direction_deg: az }
+    Spacing {
+        along_line_m: median(&mut steps).unwrap_or(f64::NAN),
+        line_spacing_m: median(&mut gaps).unwrap_or(f64::NAN),
+        line_direction_deg: az,
+    }
 }
 
 /// Flags of a survey's first channel with the given role, convenience for
@@ -266,7 +337,9 @@ mod tests {
         let mut lines = Vec::new();
         let mut seed = 12345u64;
         let mut noise = || {
-            seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
             ((seed >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 0.2
         };
         for l in 0..3 {
@@ -279,7 +352,10 @@ mod tests {
                 v.push(55_000.0 + 80.0 * (-((e - 500.0) / 120.0).powi(2)).exp() + noise());
                 station.push(format!("{k}"));
             }
-            lines.push(SurveyLine { name: format!("L{l}"), rows });
+            lines.push(SurveyLine {
+                name: format!("L{l}"),
+                rows,
+            });
         }
         let spikes = vec![37, 250, 251 + 90, 555];
         for &s in &spikes {
@@ -295,9 +371,14 @@ mod tests {
             lon: None,
             elevation_m: None,
             time_s: None,
-            station: Some(station),
+            station: Some(crate::table::ColumnData::Text(station)),
             lines,
-            channels: vec![Channel { name: "mag".into(), role: Role::Magnetic, unit: "nT", values: v }],
+            channels: vec![Channel {
+                name: "mag".into(),
+                role: Role::Magnetic,
+                unit: "nT",
+                values: v,
+            }],
             text_columns: vec![],
             file_lines: (0..n as u64).collect(),
             dummies: vec![],
@@ -311,8 +392,15 @@ mod tests {
         let (s, spikes) = synthetic();
         let before = s.channels[0].values.clone();
         let mut f = ChannelFlags::from_survey(&s, "mag").unwrap();
-        let n = detect_spikes(&s.channels[0].values, &s.lines, &mut f, SpikeRule::default());
-        let flagged: Vec<usize> = (0..f.bits.len()).filter(|&r| f.bits[r] & flag::SPIKE != 0).collect();
+        let n = detect_spikes(
+            &s.channels[0].values,
+            &s.lines,
+            &mut f,
+            SpikeRule::default(),
+        );
+        let flagged: Vec<usize> = (0..f.bits.len())
+            .filter(|&r| f.bits[r] & flag::SPIKE != 0)
+            .collect();
         assert_eq!(flagged, spikes, "found {n}");
         assert_eq!(s.channels[0].values, before);
     }
@@ -321,16 +409,37 @@ mod tests {
     fn manual_edits_reject_and_restore() {
         let (s, spikes) = synthetic();
         let mut f = ChannelFlags::from_survey(&s, "mag").unwrap();
-        detect_spikes(&s.channels[0].values, &s.lines, &mut f, SpikeRule::default());
+        detect_spikes(
+            &s.channels[0].values,
+            &s.lines,
+            &mut f,
+            SpikeRule::default(),
+        );
         f.apply(&[
-            ManualEdit { channel: "mag".into(), row: 10, reject: true },
-            ManualEdit { channel: "mag".into(), row: spikes[0] as u32, reject: false },
-            ManualEdit { channel: "other".into(), row: 11, reject: true },
+            ManualEdit {
+                channel: "mag".into(),
+                row: 10,
+                reject: true,
+            },
+            ManualEdit {
+                channel: "mag".into(),
+                row: spikes[0] as u32,
+                reject: false,
+            },
+            ManualEdit {
+                channel: "other".into(),
+                row: 11,
+                reject: true,
+            },
         ]);
         assert!(!f.usable(10));
         assert!(f.usable(spikes[0]));
         assert!(f.usable(11));
-        f.apply(&[ManualEdit { channel: "mag".into(), row: 10, reject: false }]);
+        f.apply(&[ManualEdit {
+            channel: "mag".into(),
+            row: 10,
+            reject: false,
+        }]);
         assert!(f.usable(10));
     }
 
@@ -340,7 +449,10 @@ mod tests {
         let sp = spacing(&s);
         assert!((sp.along_line_m - 5.0).abs() < 1e-9);
         assert!((sp.line_spacing_m - 100.0).abs() < 1e-6, "{sp:?}");
-        assert!((sp.line_direction_deg - 90.0).abs() < 1e-6, "east-west lines run at 90°: {sp:?}");
+        assert!(
+            (sp.line_direction_deg - 90.0).abs() < 1e-6,
+            "east-west lines run at 90°: {sp:?}"
+        );
         let f = ChannelFlags::from_survey(&s, "mag").unwrap();
         let rep = repeat_stations(&s, &s.channels[0].values, &f);
         assert_eq!(rep.len(), 200, "every station id occurs on three lines");

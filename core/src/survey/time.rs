@@ -71,9 +71,15 @@ pub fn parse_date(text: &str, order: DateOrder) -> Result<i64, String> {
     let t = text.trim();
     let parts: Vec<&str> = t.split(['-', '/', '.']).collect();
     if parts.len() != 3 {
-        return Err(format!("'{t}' is not a date (expected three parts separated by -, / or .)"));
+        return Err(format!(
+            "'{t}' is not a date (expected three parts separated by -, / or .)"
+        ));
     }
-    let nums: Vec<i64> = parts.iter().map(|p| p.trim().parse::<i64>()).collect::<Result<_, _>>().map_err(|_| format!("'{t}' is not a date"))?;
+    let nums: Vec<i64> = parts
+        .iter()
+        .map(|p| p.trim().parse::<i64>())
+        .collect::<Result<_, _>>()
+        .map_err(|_| format!("'{t}' is not a date"))?;
     // A four-digit first field is always a year, whatever the order.
     let (y, m, d) = if parts[0].len() == 4 {
         (nums[0], nums[1], nums[2])
@@ -84,9 +90,15 @@ pub fn parse_date(text: &str, order: DateOrder) -> Result<i64, String> {
             DateOrder::MonthDayYear => (nums[2], nums[0], nums[1]),
         }
     };
-    let y = if (0..100).contains(&y) && parts[0].len() != 4 && parts[2].len() <= 2 { 2000 + y } else { y };
+    let y = if (0..100).contains(&y) && parts[0].len() != 4 && parts[2].len() <= 2 {
+        2000 + y
+    } else {
+        y
+    };
     if !(1..=12).contains(&m) {
-        return Err(format!("'{t}': month {m} is not 1–12 (is the date order right?)"));
+        return Err(format!(
+            "'{t}': month {m} is not 1–12 (is the date order right?)"
+        ));
     }
     if d < 1 || d > days_in_month(y, m as u32) as i64 {
         return Err(format!("'{t}': day {d} does not exist in {y}-{m:02}"));
@@ -104,24 +116,44 @@ pub fn parse_clock(text: &str) -> Result<f64, String> {
     if parts.len() < 2 || parts.len() > 3 {
         return Err(format!("'{t}' is not a clock time (hh:mm or hh:mm:ss)"));
     }
-    let h: f64 = parts[0].parse().map_err(|_| format!("'{t}' is not a clock time"))?;
-    let m: f64 = parts[1].parse().map_err(|_| format!("'{t}' is not a clock time"))?;
-    let s: f64 = if parts.len() == 3 { parts[2].parse().map_err(|_| format!("'{t}' is not a clock time"))? } else { 0.0 };
-    if !(0.0..24.0).contains(&h) || !(0.0..60.0).contains(&m) || !(0.0..61.0).contains(&s) || h.fract() != 0.0 || m.fract() != 0.0 {
+    let h: f64 = parts[0]
+        .parse()
+        .map_err(|_| format!("'{t}' is not a clock time"))?;
+    let m: f64 = parts[1]
+        .parse()
+        .map_err(|_| format!("'{t}' is not a clock time"))?;
+    let s: f64 = if parts.len() == 3 {
+        parts[2]
+            .parse()
+            .map_err(|_| format!("'{t}' is not a clock time"))?
+    } else {
+        0.0
+    };
+    if !(0.0..24.0).contains(&h)
+        || !(0.0..60.0).contains(&m)
+        || !(0.0..61.0).contains(&s)
+        || h.fract() != 0.0
+        || m.fract() != 0.0
+    {
         return Err(format!("'{t}' is not a valid time of day"));
     }
     Ok(h * 3600.0 + m * 60.0 + s)
 }
 
 /// Parses a time column value to seconds of day by `format`.
-pub fn parse_time_of_day(text: &str, format: TimeFormat, all_below_24: bool) -> Result<f64, String> {
+pub fn parse_time_of_day(
+    text: &str,
+    format: TimeFormat,
+    all_below_24: bool,
+) -> Result<f64, String> {
     let t = text.trim();
     match format {
         TimeFormat::Clock => parse_clock(t),
         TimeFormat::Auto if t.contains(':') => parse_clock(t),
         _ => {
             let v: f64 = t.parse().map_err(|_| format!("'{t}' is not a time"))?;
-            let hours = matches!(format, TimeFormat::DecimalHours) || (format == TimeFormat::Auto && all_below_24);
+            let hours = matches!(format, TimeFormat::DecimalHours)
+                || (format == TimeFormat::Auto && all_below_24);
             let s = if hours { v * 3600.0 } else { v };
             if !(0.0..=86_401.0).contains(&s) || !s.is_finite() {
                 return Err(format!("'{t}' is not a time of day ({} s)", s));
@@ -142,22 +174,31 @@ pub fn parse_datetime(text: &str, order: DateOrder) -> Result<f64, String> {
     if rest.is_empty() {
         return Ok(days as f64 * 86_400.0);
     }
-    let (clock, offset_s) = if let Some(c) = rest.strip_suffix('Z').or_else(|| rest.strip_suffix("UTC")) {
-        (c.trim(), 0.0)
-    } else if let Some(i) = rest.rfind(['+', '-']).filter(|&i| i > 0) {
-        let off = &rest[i + 1..];
-        let sign = if rest.as_bytes()[i] == b'-' { -1.0 } else { 1.0 };
-        let (oh, om) = match off.split_once(':') {
-            Some((h, m)) => (h, m),
-            None if off.len() == 4 => (&off[..2], &off[2..]),
-            None => (off, "0"),
+    let (clock, offset_s) =
+        if let Some(c) = rest.strip_suffix('Z').or_else(|| rest.strip_suffix("UTC")) {
+            (c.trim(), 0.0)
+        } else if let Some(i) = rest.rfind(['+', '-']).filter(|&i| i > 0) {
+            let off = &rest[i + 1..];
+            let sign = if rest.as_bytes()[i] == b'-' {
+                -1.0
+            } else {
+                1.0
+            };
+            let (oh, om) = match off.split_once(':') {
+                Some((h, m)) => (h, m),
+                None if off.len() == 4 => (&off[..2], &off[2..]),
+                None => (off, "0"),
+            };
+            let oh: f64 = oh
+                .parse()
+                .map_err(|_| format!("'{t}': bad time-zone offset"))?;
+            let om: f64 = om
+                .parse()
+                .map_err(|_| format!("'{t}': bad time-zone offset"))?;
+            (&rest[..i], sign * (oh * 3600.0 + om * 60.0))
+        } else {
+            (rest, 0.0)
         };
-        let oh: f64 = oh.parse().map_err(|_| format!("'{t}': bad time-zone offset"))?;
-        let om: f64 = om.parse().map_err(|_| format!("'{t}': bad time-zone offset"))?;
-        (&rest[..i], sign * (oh * 3600.0 + om * 60.0))
-    } else {
-        (rest, 0.0)
-    };
     Ok(days as f64 * 86_400.0 + parse_clock(clock)? - offset_s)
 }
 
@@ -169,7 +210,10 @@ pub fn format_iso(t_s: f64) -> String {
     let h = (sod / 3600.0).floor();
     let mi = ((sod - h * 3600.0) / 60.0).floor();
     let s = sod - h * 3600.0 - mi * 60.0;
-    format!("{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:06.3}Z", h as u32, mi as u32, s)
+    format!(
+        "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:06.3}Z",
+        h as u32, mi as u32, s
+    )
 }
 
 #[cfg(test)]
@@ -193,24 +237,55 @@ mod tests {
     #[test]
     fn dates_in_every_order() {
         let want = days_from_civil(2026, 3, 4);
-        assert_eq!(parse_date("2026-03-04", DateOrder::DayMonthYear).unwrap(), want);
-        assert_eq!(parse_date("04/03/2026", DateOrder::DayMonthYear).unwrap(), want);
-        assert_eq!(parse_date("03/04/2026", DateOrder::MonthDayYear).unwrap(), want);
+        assert_eq!(
+            parse_date("2026-03-04", DateOrder::DayMonthYear).unwrap(),
+            want
+        );
+        assert_eq!(
+            parse_date("04/03/2026", DateOrder::DayMonthYear).unwrap(),
+            want
+        );
+        assert_eq!(
+            parse_date("03/04/2026", DateOrder::MonthDayYear).unwrap(),
+            want
+        );
         assert_eq!(parse_date("4.3.26", DateOrder::DayMonthYear).unwrap(), want);
-        assert!(parse_date("2026-02-30", DateOrder::YearMonthDay).unwrap_err().contains("does not exist"));
-        assert!(parse_date("13/13/2026", DateOrder::DayMonthYear).unwrap_err().contains("month 13"));
+        assert!(parse_date("2026-02-30", DateOrder::YearMonthDay)
+            .unwrap_err()
+            .contains("does not exist"));
+        assert!(parse_date("13/13/2026", DateOrder::DayMonthYear)
+            .unwrap_err()
+            .contains("month 13"));
     }
 
     #[test]
     fn times_and_datetimes() {
         assert_eq!(parse_clock("09:30:15.5").unwrap(), 34_215.5);
-        assert_eq!(parse_time_of_day("9.5", TimeFormat::Auto, true).unwrap(), 34_200.0);
-        assert_eq!(parse_time_of_day("34200", TimeFormat::Auto, false).unwrap(), 34_200.0);
+        assert_eq!(
+            parse_time_of_day("9.5", TimeFormat::Auto, true).unwrap(),
+            34_200.0
+        );
+        assert_eq!(
+            parse_time_of_day("34200", TimeFormat::Auto, false).unwrap(),
+            34_200.0
+        );
         let base = days_from_civil(2026, 3, 14) as f64 * 86_400.0;
-        assert_eq!(parse_datetime("2026-03-14T09:30:00", DateOrder::default()).unwrap(), base + 34_200.0);
-        assert_eq!(parse_datetime("2026-03-14 09:30:00Z", DateOrder::default()).unwrap(), base + 34_200.0);
-        assert_eq!(parse_datetime("2026-03-14T19:30:00+10:00", DateOrder::default()).unwrap(), base + 34_200.0);
-        assert_eq!(parse_datetime("2026-03-14T04:00:00-0530", DateOrder::default()).unwrap(), base + 34_200.0);
+        assert_eq!(
+            parse_datetime("2026-03-14T09:30:00", DateOrder::default()).unwrap(),
+            base + 34_200.0
+        );
+        assert_eq!(
+            parse_datetime("2026-03-14 09:30:00Z", DateOrder::default()).unwrap(),
+            base + 34_200.0
+        );
+        assert_eq!(
+            parse_datetime("2026-03-14T19:30:00+10:00", DateOrder::default()).unwrap(),
+            base + 34_200.0
+        );
+        assert_eq!(
+            parse_datetime("2026-03-14T04:00:00-0530", DateOrder::default()).unwrap(),
+            base + 34_200.0
+        );
         assert_eq!(format_iso(base + 34_215.25), "2026-03-14T09:30:15.250Z");
         assert!(parse_clock("25:00").is_err());
     }

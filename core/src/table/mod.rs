@@ -74,23 +74,53 @@ pub struct TextOptions {
 #[derive(Debug, Error)]
 pub enum TableError {
     #[error("cannot read {file}: {source}")]
-    Read { file: PathBuf, source: std::io::Error },
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
     #[error("{file}: the file is empty (no data lines after comments and blank lines)")]
     Empty { file: PathBuf },
     #[error("{file}: the file has a header row but no data rows")]
     HeaderOnly { file: PathBuf },
     #[error("{file}: line {line}: expected {expected} fields (as in {reference}), found {found}; check the delimiter ({delimiter}) and quoting")]
-    Ragged { file: PathBuf, line: u64, expected: usize, found: usize, reference: String, delimiter: &'static str },
+    Ragged {
+        file: PathBuf,
+        line: u64,
+        expected: usize,
+        found: usize,
+        reference: String,
+        delimiter: &'static str,
+    },
     #[error("{file}: line {line}, column '{column}': '{text}' is not a number")]
-    NotNumber { file: PathBuf, line: u64, column: String, text: String },
+    NotNumber {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        text: String,
+    },
     #[error("{file}: line {line}: a quoted field is not closed before the end of the line")]
     UnclosedQuote { file: PathBuf, line: u64 },
     #[error("{file}: line 1: column name '{name}' appears twice (columns {first} and {second}); rename one")]
-    DuplicateColumn { file: PathBuf, name: String, first: usize, second: usize },
-    #[error("{file}: this looks like a binary file, not delimited text (byte {offset} is {byte:#04x})")]
-    Binary { file: PathBuf, offset: usize, byte: u8 },
+    DuplicateColumn {
+        file: PathBuf,
+        name: String,
+        first: usize,
+        second: usize,
+    },
+    #[error(
+        "{file}: this looks like a binary file, not delimited text (byte {offset} is {byte:#04x})"
+    )]
+    Binary {
+        file: PathBuf,
+        offset: usize,
+        byte: u8,
+    },
     #[error("{file}: {given} column kinds given for {found} columns")]
-    KindCount { file: PathBuf, given: usize, found: usize },
+    KindCount {
+        file: PathBuf,
+        given: usize,
+        found: usize,
+    },
 }
 
 /// One column of a table.
@@ -118,6 +148,17 @@ impl ColumnData {
         match self {
             ColumnData::Number(v) => Some(v),
             ColumnData::Text(_) => None,
+        }
+    }
+
+    /// Value `i` as text (numbers in shortest form, dummies empty).
+    pub fn text_at(&self, i: usize) -> std::borrow::Cow<'_, str> {
+        match self {
+            ColumnData::Text(v) => std::borrow::Cow::Borrowed(v[i].as_str()),
+            ColumnData::Number(v) if v[i].is_finite() => {
+                std::borrow::Cow::Owned(format!("{}", v[i]))
+            }
+            ColumnData::Number(_) => std::borrow::Cow::Borrowed(""),
         }
     }
 

@@ -11,33 +11,76 @@ const HEAD_BYTES: usize = 256 * 1024;
 
 /// Reads a whole table from a file. `kinds` overrides the detected column
 /// kinds (one per column).
-pub fn read_table(path: &Path, opts: &TextOptions, kinds: Option<&[ColumnKind]>) -> Result<Table, TableError> {
-    let mut f = File::open(path).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+pub fn read_table(
+    path: &Path,
+    opts: &TextOptions,
+    kinds: Option<&[ColumnKind]>,
+) -> Result<Table, TableError> {
+    let mut f = File::open(path).map_err(|source| TableError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
     let mut head = Vec::with_capacity(HEAD_BYTES);
-    (&mut f).take(HEAD_BYTES as u64).read_to_end(&mut head).map_err(|source| TableError::Read { file: path.to_path_buf(), source })?;
+    (&mut f)
+        .take(HEAD_BYTES as u64)
+        .read_to_end(&mut head)
+        .map_err(|source| TableError::Read {
+            file: path.to_path_buf(),
+            source,
+        })?;
     let size_hint = f.metadata().map(|m| m.len() as usize).unwrap_or(0);
     let reader = BufReader::with_capacity(1 << 20, Cursor::new(head.clone()).chain(f));
     read_from(reader, &head, size_hint, path, opts, kinds)
 }
 
 /// Reads a table from bytes in memory (tests, previews, fuzzing).
-pub fn read_table_bytes(bytes: &[u8], file: &Path, opts: &TextOptions, kinds: Option<&[ColumnKind]>) -> Result<Table, TableError> {
+pub fn read_table_bytes(
+    bytes: &[u8],
+    file: &Path,
+    opts: &TextOptions,
+    kinds: Option<&[ColumnKind]>,
+) -> Result<Table, TableError> {
     read_from(BufReader::new(bytes), bytes, bytes.len(), file, opts, kinds)
 }
 
-fn read_from(mut reader: impl BufRead, head: &[u8], size_hint: usize, file: &Path, opts: &TextOptions, kinds: Option<&[ColumnKind]>) -> Result<Table, TableError> {
+fn read_from(
+    mut reader: impl BufRead,
+    head: &[u8],
+    size_hint: usize,
+    file: &Path,
+    opts: &TextOptions,
+    kinds: Option<&[ColumnKind]>,
+) -> Result<Table, TableError> {
     let sn = sniff(head, file, opts)?;
     let kinds: Vec<ColumnKind> = match kinds {
-        Some(k) if k.len() != sn.names.len() => return Err(TableError::KindCount { file: file.to_path_buf(), given: k.len(), found: sn.names.len() }),
+        Some(k) if k.len() != sn.names.len() => {
+            return Err(TableError::KindCount {
+                file: file.to_path_buf(),
+                given: k.len(),
+                found: sn.names.len(),
+            })
+        }
         Some(k) => k.to_vec(),
         None => sn.kinds.clone(),
     };
     let n_cols = sn.names.len();
     // Rough row estimate from the head, to reserve once.
     let head_lines = head.iter().filter(|&&b| b == b'\n').count().max(1);
-    let est_rows = if head.len() >= size_hint { head_lines } else { (size_hint as f64 / head.len().max(1) as f64 * head_lines as f64) as usize + 16 };
-    let mut columns: Vec<ColumnData> =
-        kinds.iter().map(|k| if *k == ColumnKind::Number { ColumnData::Number(Vec::with_capacity(est_rows)) } else { ColumnData::Text(Vec::with_capacity(est_rows)) }).collect();
+    let est_rows = if head.len() >= size_hint {
+        head_lines
+    } else {
+        (size_hint as f64 / head.len().max(1) as f64 * head_lines as f64) as usize + 16
+    };
+    let mut columns: Vec<ColumnData> = kinds
+        .iter()
+        .map(|k| {
+            if *k == ColumnKind::Number {
+                ColumnData::Number(Vec::with_capacity(est_rows))
+            } else {
+                ColumnData::Text(Vec::with_capacity(est_rows))
+            }
+        })
+        .collect();
     let mut lines: Vec<u64> = Vec::with_capacity(est_rows);
     let mut dummies = vec![0usize; n_cols];
     let mut buf = Vec::with_capacity(4096);
@@ -48,15 +91,28 @@ fn read_from(mut reader: impl BufRead, head: &[u8], size_hint: usize, file: &Pat
     let dummy_value = opts.dummy_value;
     loop {
         buf.clear();
-        let n = reader.read_until(b'\n', &mut buf).map_err(|source| TableError::Read { file: file.to_path_buf(), source })?;
+        let n = reader
+            .read_until(b'\n', &mut buf)
+            .map_err(|source| TableError::Read {
+                file: file.to_path_buf(),
+                source,
+            })?;
         if n == 0 {
             break;
         }
         line_no += 1;
-        let raw: &[u8] = if line_no == 1 { crate::io::text::strip_bom(&buf) } else { &buf };
+        let raw: &[u8] = if line_no == 1 {
+            crate::io::text::strip_bom(&buf)
+        } else {
+            &buf
+        };
         if raw.contains(&0) {
             let offset = raw.iter().position(|&b| b == 0).unwrap_or(0);
-            return Err(TableError::Binary { file: file.to_path_buf(), offset, byte: 0 });
+            return Err(TableError::Binary {
+                file: file.to_path_buf(),
+                offset,
+                byte: 0,
+            });
         }
         let line = decode_line(raw);
         if is_skipped(&line) {
@@ -66,10 +122,25 @@ fn read_from(mut reader: impl BufRead, head: &[u8], size_hint: usize, file: &Pat
             header_pending = false;
             continue;
         }
-        sp.split(&line, sn.delimiter).map_err(|_| TableError::UnclosedQuote { file: file.to_path_buf(), line: line_no })?;
+        sp.split(&line, sn.delimiter)
+            .map_err(|_| TableError::UnclosedQuote {
+                file: file.to_path_buf(),
+                line: line_no,
+            })?;
         if sp.len() != n_cols {
-            let reference = if sn.has_header { "the header".to_string() } else { format!("line {}", first_data_line.unwrap_or(line_no)) };
-            return Err(TableError::Ragged { file: file.to_path_buf(), line: line_no, expected: n_cols, found: sp.len(), reference, delimiter: sn.delimiter.name() });
+            let reference = if sn.has_header {
+                "the header".to_string()
+            } else {
+                format!("line {}", first_data_line.unwrap_or(line_no))
+            };
+            return Err(TableError::Ragged {
+                file: file.to_path_buf(),
+                line: line_no,
+                expected: n_cols,
+                found: sp.len(),
+                reference,
+                delimiter: sn.delimiter.name(),
+            });
         }
         first_data_line.get_or_insert(line_no);
         for (c, col) in columns.iter_mut().enumerate() {
@@ -87,7 +158,14 @@ fn read_from(mut reader: impl BufRead, head: &[u8], size_hint: usize, file: &Pat
                             v.push(f64::NAN);
                         }
                         Some(x) => v.push(x),
-                        None => return Err(TableError::NotNumber { file: file.to_path_buf(), line: line_no, column: sn.names[c].clone(), text: t.chars().take(40).collect() }),
+                        None => {
+                            return Err(TableError::NotNumber {
+                                file: file.to_path_buf(),
+                                line: line_no,
+                                column: sn.names[c].clone(),
+                                text: t.chars().take(40).collect(),
+                            })
+                        }
                     }
                 }
                 ColumnData::Text(v) => {
@@ -101,9 +179,25 @@ fn read_from(mut reader: impl BufRead, head: &[u8], size_hint: usize, file: &Pat
         lines.push(line_no);
     }
     if lines.is_empty() {
-        return Err(if sn.has_header { TableError::HeaderOnly { file: file.to_path_buf() } } else { TableError::Empty { file: file.to_path_buf() } });
+        return Err(if sn.has_header {
+            TableError::HeaderOnly {
+                file: file.to_path_buf(),
+            }
+        } else {
+            TableError::Empty {
+                file: file.to_path_buf(),
+            }
+        });
     }
-    Ok(Table { file: file.to_path_buf(), delimiter: sn.delimiter, has_header: sn.has_header, names: sn.names, columns, lines, dummies })
+    Ok(Table {
+        file: file.to_path_buf(),
+        delimiter: sn.delimiter,
+        has_header: sn.has_header,
+        names: sn.names,
+        columns,
+        lines,
+        dummies,
+    })
 }
 
 #[cfg(test)]
@@ -117,7 +211,14 @@ mod tests {
 
     #[test]
     fn reads_columns_with_dummies_as_nan_and_counts_them() {
-        let t = read(b"\xEF\xBB\xBFline,x,grav\r\n# note\r\nL1,1,10.5\r\nL1,2,*\r\nL2,3,-99999\r\nL2,4,\r\n", TextOptions { dummy_value: Some(-99999.0), ..Default::default() }).unwrap();
+        let t = read(
+            b"\xEF\xBB\xBFline,x,grav\r\n# note\r\nL1,1,10.5\r\nL1,2,*\r\nL2,3,-99999\r\nL2,4,\r\n",
+            TextOptions {
+                dummy_value: Some(-99999.0),
+                ..Default::default()
+            },
+        )
+        .unwrap();
         assert_eq!(t.names, ["line", "x", "grav"]);
         let g = t.columns[2].as_numbers().unwrap();
         assert_eq!(g[0], 10.5);
@@ -129,22 +230,59 @@ mod tests {
 
     #[test]
     fn ragged_rows_and_bad_numbers_name_the_line() {
-        let e = read(b"x,y,z\n1,2,3\n1,2\n", TextOptions::default()).unwrap_err().to_string();
-        assert!(e.contains("line 3") && e.contains("expected 3") && e.contains("found 2"), "{e}");
-        let e = read(b"x,y,z\n1,2,3\n1,2,3\n1,2,3\n1,2,3\n1,two,3\n", TextOptions::default()).unwrap_err().to_string();
-        assert!(e.contains("line 6") && e.contains("'y'") && e.contains("two"), "{e}");
-        let e = read(b"x,y\n1,2\n1,1e999\n", TextOptions::default()).unwrap_err().to_string();
+        let e = read(b"x,y,z\n1,2,3\n1,2\n", TextOptions::default())
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("line 3") && e.contains("expected 3") && e.contains("found 2"),
+            "{e}"
+        );
+        let e = read(
+            b"x,y,z\n1,2,3\n1,2,3\n1,2,3\n1,2,3\n1,two,3\n",
+            TextOptions::default(),
+        )
+        .unwrap_err()
+        .to_string();
+        assert!(
+            e.contains("line 6") && e.contains("'y'") && e.contains("two"),
+            "{e}"
+        );
+        let e = read(b"x,y\n1,2\n1,1e999\n", TextOptions::default())
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("1e999"), "{e}");
-        assert!(matches!(read(b"x,y\n", TextOptions::default()), Err(TableError::HeaderOnly { .. })));
-        assert!(matches!(read(b"", TextOptions::default()), Err(TableError::Empty { .. })));
+        assert!(matches!(
+            read(b"x,y\n", TextOptions::default()),
+            Err(TableError::HeaderOnly { .. })
+        ));
+        assert!(matches!(
+            read(b"", TextOptions::default()),
+            Err(TableError::Empty { .. })
+        ));
     }
 
     #[test]
     fn overrides_win_over_detection() {
-        let t = read(b"1 2 3\n4 5 6\n", TextOptions { delimiter: Some(Delimiter::Whitespace), has_header: Some(false), dummy_value: None }).unwrap();
+        let t = read(
+            b"1 2 3\n4 5 6\n",
+            TextOptions {
+                delimiter: Some(Delimiter::Whitespace),
+                has_header: Some(false),
+                dummy_value: None,
+            },
+        )
+        .unwrap();
         assert_eq!(t.n_rows(), 2);
         assert_eq!(t.names[2], "column 3");
-        let t = read(b"a;b\n1;2\n", TextOptions { delimiter: None, has_header: Some(true), dummy_value: None }).unwrap();
+        let t = read(
+            b"a;b\n1;2\n",
+            TextOptions {
+                delimiter: None,
+                has_header: Some(true),
+                dummy_value: None,
+            },
+        )
+        .unwrap();
         assert_eq!(t.delimiter, Delimiter::Semicolon);
     }
 
@@ -155,7 +293,9 @@ mod tests {
             s.push_str(&format!("{i},{i}\n"));
         }
         s.push_str("7,oops\n");
-        let e = read(s.as_bytes(), TextOptions::default()).unwrap_err().to_string();
+        let e = read(s.as_bytes(), TextOptions::default())
+            .unwrap_err()
+            .to_string();
         assert!(e.contains("line 502") && e.contains("oops"), "{e}");
     }
 }

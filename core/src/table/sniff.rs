@@ -19,6 +19,10 @@ pub struct Sniffed {
     pub sample: Vec<Vec<String>>,
 }
 
+/// A quoted field runs to the end of the line without its closing quote.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct UnclosedQuote;
+
 /// Splits one line into fields, reusing its buffers between lines.
 #[derive(Debug, Default)]
 pub struct Splitter {
@@ -27,9 +31,8 @@ pub struct Splitter {
 }
 
 impl Splitter {
-    /// Splits `line` (without its line ending). Returns `Err(())` when a quote
-    /// is not closed.
-    pub fn split(&mut self, line: &str, d: Delimiter) -> Result<(), ()> {
+    /// Splits `line` (without its line ending).
+    pub fn split(&mut self, line: &str, d: Delimiter) -> Result<(), UnclosedQuote> {
         self.ranges.clear();
         let mut n_owned = 0;
         let b = line.as_bytes();
@@ -39,7 +42,13 @@ impl Splitter {
             Delimiter::Semicolon => b';',
             Delimiter::Whitespace => b' ',
         };
-        let is_sep = |c: u8| if d == Delimiter::Whitespace { c == b' ' || c == b'\t' } else { c == sep };
+        let is_sep = |c: u8| {
+            if d == Delimiter::Whitespace {
+                c == b' ' || c == b'\t'
+            } else {
+                c == sep
+            }
+        };
         let mut i = 0;
         if d == Delimiter::Whitespace {
             while i < b.len() && is_sep(b[i]) {
@@ -58,7 +67,7 @@ impl Splitter {
                 let mut escaped = false;
                 loop {
                     if j >= b.len() {
-                        return Err(());
+                        return Err(UnclosedQuote);
                     }
                     if b[j] == b'"' {
                         if j + 1 < b.len() && b[j + 1] == b'"' {
@@ -158,34 +167,62 @@ pub fn parse_number(t: &str, d: Delimiter) -> Option<f64> {
         return v.is_finite().then_some(v);
     }
     if d != Delimiter::Comma && t.bytes().filter(|&c| c == b',').count() == 1 && !t.contains('.') {
-        return t.replace(',', ".").parse::<f64>().ok().filter(|v| v.is_finite());
+        return t
+            .replace(',', ".")
+            .parse::<f64>()
+            .ok()
+            .filter(|v| v.is_finite());
     }
     None
 }
 
 fn looks_numeric(t: &str, d: Delimiter, dummy: Option<f64>) -> bool {
-    is_dummy_token(t) || parse_number(t, d).is_some() || t.parse::<f64>().is_ok() || dummy.is_some_and(|v| t.parse::<f64>().ok() == Some(v))
+    is_dummy_token(t)
+        || parse_number(t, d).is_some()
+        || t.parse::<f64>().is_ok()
+        || dummy.is_some_and(|v| t.parse::<f64>().ok() == Some(v))
 }
 
 /// Looks at the start of `bytes` (the whole file or its first part).
 pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, TableError> {
     let bytes = strip_bom(bytes);
     if let Some(offset) = bytes.iter().take(8192).position(|&b| b == 0) {
-        return Err(TableError::Binary { file: file.to_path_buf(), offset, byte: 0 });
+        return Err(TableError::Binary {
+            file: file.to_path_buf(),
+            offset,
+            byte: 0,
+        });
     }
-    let lines: Vec<Cow<str>> = bytes.split(|&b| b == b'\n').map(decode_line).filter(|l| !is_skipped(l)).take(SAMPLE_LINES + 1).collect();
+    let lines: Vec<Cow<str>> = bytes
+        .split(|&b| b == b'\n')
+        .map(decode_line)
+        .filter(|l| !is_skipped(l))
+        .take(SAMPLE_LINES + 1)
+        .collect();
     if lines.is_empty() {
-        return Err(TableError::Empty { file: file.to_path_buf() });
+        return Err(TableError::Empty {
+            file: file.to_path_buf(),
+        });
     }
     let mut sp = Splitter::default();
-    let counts = |d: Delimiter, sp: &mut Splitter| -> Vec<usize> { lines.iter().map(|l| if sp.split(l, d).is_ok() { sp.len() } else { 0 }).collect() };
+    let counts = |d: Delimiter, sp: &mut Splitter| -> Vec<usize> {
+        lines
+            .iter()
+            .map(|l| if sp.split(l, d).is_ok() { sp.len() } else { 0 })
+            .collect()
+    };
     let delimiter = match opts.delimiter {
         Some(d) => d,
         None => {
             // Prefer a delimiter that splits every line into the same number
             // (> 1) of fields; then the one with the most lines agreeing.
             let mut best: Option<(Delimiter, bool, usize, usize)> = None;
-            for d in [Delimiter::Comma, Delimiter::Tab, Delimiter::Semicolon, Delimiter::Whitespace] {
+            for d in [
+                Delimiter::Comma,
+                Delimiter::Tab,
+                Delimiter::Semicolon,
+                Delimiter::Whitespace,
+            ] {
                 let c = counts(d, &mut sp);
                 let first = c[0];
                 let agree = c.iter().filter(|&&n| n == c[c.len().min(2) - 1]).count();
@@ -196,7 +233,9 @@ pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, T
                 }
                 let better = match best {
                     None => true,
-                    Some((_, bc, bagree, _)) => (consistent && !bc) || (consistent == bc && agree > bagree),
+                    Some((_, bc, bagree, _)) => {
+                        (consistent && !bc) || (consistent == bc && agree > bagree)
+                    }
                 };
                 if better {
                     best = Some((d, consistent, agree, n));
@@ -209,11 +248,19 @@ pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, T
         .iter()
         .enumerate()
         .map(|(i, l)| {
-            sp.split(l, delimiter).map_err(|_| TableError::UnclosedQuote { file: file.to_path_buf(), line: i as u64 + 1 })?;
+            sp.split(l, delimiter)
+                .map_err(|_| TableError::UnclosedQuote {
+                    file: file.to_path_buf(),
+                    line: i as u64 + 1,
+                })?;
             Ok((0..sp.len()).map(|k| sp.field(l, k).to_string()).collect())
         })
         .collect::<Result<_, TableError>>()?;
-    let numeric_count = |r: &Vec<String>| r.iter().filter(|t| !t.is_empty() && parse_number(t, delimiter).is_some()).count();
+    let numeric_count = |r: &Vec<String>| {
+        r.iter()
+            .filter(|t| !t.is_empty() && parse_number(t, delimiter).is_some())
+            .count()
+    };
     let has_header = match opts.has_header {
         Some(h) => h,
         None => {
@@ -227,11 +274,19 @@ pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, T
     let (names, data) = if has_header {
         (rows[0].clone(), &rows[1..])
     } else {
-        ((1..=rows[0].len()).map(|i| format!("column {i}")).collect(), &rows[..])
+        (
+            (1..=rows[0].len()).map(|i| format!("column {i}")).collect(),
+            &rows[..],
+        )
     };
     for (i, n) in names.iter().enumerate() {
         if let Some(j) = names[..i].iter().position(|m| m.eq_ignore_ascii_case(n)) {
-            return Err(TableError::DuplicateColumn { file: file.to_path_buf(), name: n.clone(), first: j + 1, second: i + 1 });
+            return Err(TableError::DuplicateColumn {
+                file: file.to_path_buf(),
+                name: n.clone(),
+                first: j + 1,
+                second: i + 1,
+            });
         }
     }
     // A column is numeric when at least 80 % of its non-dummy sample values
@@ -256,7 +311,13 @@ pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, T
             }
         })
         .collect();
-    Ok(Sniffed { delimiter, has_header, names, kinds, sample: data.iter().take(SAMPLE_LINES).cloned().collect() })
+    Ok(Sniffed {
+        delimiter,
+        has_header,
+        names,
+        kinds,
+        sample: data.iter().take(SAMPLE_LINES).cloned().collect(),
+    })
 }
 
 #[cfg(test)]
@@ -272,7 +333,10 @@ mod tests {
         assert_eq!(s("x,y,z\n1,2,3\n").delimiter, Delimiter::Comma);
         assert_eq!(s("x\ty\tz\n1\t2\t3\n").delimiter, Delimiter::Tab);
         assert_eq!(s("x;y;z\n1,5;2,5;3\n").delimiter, Delimiter::Semicolon);
-        assert_eq!(s("  x    y   z\n  1  2   3\n").delimiter, Delimiter::Whitespace);
+        assert_eq!(
+            s("  x    y   z\n  1  2   3\n").delimiter,
+            Delimiter::Whitespace
+        );
     }
 
     #[test]
@@ -280,9 +344,20 @@ mod tests {
         let a = s("# exported 2026\nline,x,y,grav\nL100,500,600,978000.1\nL100,525,600,*\n");
         assert!(a.has_header);
         assert_eq!(a.names, ["line", "x", "y", "grav"]);
-        assert_eq!(a.kinds, [ColumnKind::Text, ColumnKind::Number, ColumnKind::Number, ColumnKind::Number]);
+        assert_eq!(
+            a.kinds,
+            [
+                ColumnKind::Text,
+                ColumnKind::Number,
+                ColumnKind::Number,
+                ColumnKind::Number
+            ]
+        );
         let b = s("L100,500,600\nL100,525,600\n");
-        assert!(!b.has_header, "a text line name alone does not make a header");
+        assert!(
+            !b.has_header,
+            "a text line name alone does not make a header"
+        );
         assert_eq!(b.names[0], "column 1");
     }
 
@@ -302,8 +377,21 @@ mod tests {
 
     #[test]
     fn binary_and_duplicates_are_refused() {
-        assert!(matches!(sniff(b"x,y\0\x01", Path::new("b"), &TextOptions::default()), Err(TableError::Binary { .. })));
-        assert!(matches!(sniff(b"x,y,X\n1,2,3\n", Path::new("b"), &TextOptions::default()), Err(TableError::DuplicateColumn { .. })));
-        assert!(matches!(sniff(b"# only a comment\n\n", Path::new("b"), &TextOptions::default()), Err(TableError::Empty { .. })));
+        assert!(matches!(
+            sniff(b"x,y\0\x01", Path::new("b"), &TextOptions::default()),
+            Err(TableError::Binary { .. })
+        ));
+        assert!(matches!(
+            sniff(b"x,y,X\n1,2,3\n", Path::new("b"), &TextOptions::default()),
+            Err(TableError::DuplicateColumn { .. })
+        ));
+        assert!(matches!(
+            sniff(
+                b"# only a comment\n\n",
+                Path::new("b"),
+                &TextOptions::default()
+            ),
+            Err(TableError::Empty { .. })
+        ));
     }
 }
