@@ -344,55 +344,25 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         y = take_numbers(iy.unwrap_or(0));
         if lat.is_none() {
             if let Some(c) = &crs {
-                let geo: Vec<Result<(f64, f64), CrsError>> = x
-                    .par_iter()
-                    .zip(y.par_iter())
-                    .map(|(&a, &b)| {
-                        if a.is_finite() && b.is_finite() {
-                            c.unproject(a, b)
-                        } else {
-                            Ok((f64::NAN, f64::NAN))
-                        }
-                    })
-                    .collect();
-                let (mut la, mut lo) = (Vec::with_capacity(n), Vec::with_capacity(n));
-                for (k, r) in geo.into_iter().enumerate() {
-                    let (p, q) = r.map_err(|e| {
+                let (la, lo) =
+                    convert_all(&x, &y, |a, b| c.unproject(a, b)).map_err(|(k, e)| {
                         crs_value(&file, file_lines[k], &spec.columns[ix.unwrap_or(0)].name, e)
                     })?;
-                    la.push(p);
-                    lo.push(q);
-                }
                 lat = Some(la);
                 lon = Some(lo);
             }
         }
     } else if let (Some(c), Some(la), Some(lo)) = (&crs, &lat, &lon) {
-        let xy: Vec<Result<(f64, f64), CrsError>> = la
-            .par_iter()
-            .zip(lo.par_iter())
-            .map(|(&p, &q)| {
-                if p.is_finite() && q.is_finite() {
-                    c.project(p, q)
-                } else {
-                    Ok((f64::NAN, f64::NAN))
-                }
-            })
-            .collect();
-        x = Vec::with_capacity(n);
-        y = Vec::with_capacity(n);
-        for (k, r) in xy.into_iter().enumerate() {
-            let (e, nn) = r.map_err(|e| {
-                crs_value(
-                    &file,
-                    file_lines[k],
-                    &spec.columns[ilat.unwrap_or(0)].name,
-                    e,
-                )
-            })?;
-            x.push(e);
-            y.push(nn);
-        }
+        let (px, py) = convert_all(la, lo, |p, q| c.project(p, q)).map_err(|(k, e)| {
+            crs_value(
+                &file,
+                file_lines[k],
+                &spec.columns[ilat.unwrap_or(0)].name,
+                e,
+            )
+        })?;
+        x = px;
+        y = py;
     }
     let missing_xy = x
         .iter()
@@ -493,6 +463,41 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         dummies,
         warnings,
     })
+}
+
+/// Applies a coordinate conversion to every row in parallel, writing straight
+/// into the two output columns (no per-row temporaries). Rows with a missing
+/// input stay NaN; the first failing row is reported with its index.
+fn convert_all(
+    a: &[f64],
+    b: &[f64],
+    f: impl Fn(f64, f64) -> Result<(f64, f64), CrsError> + Sync,
+) -> Result<(Vec<f64>, Vec<f64>), (usize, CrsError)> {
+    let n = a.len();
+    let (mut p, mut q) = (vec![f64::NAN; n], vec![f64::NAN; n]);
+    let failed = std::sync::atomic::AtomicBool::new(false);
+    p.par_iter_mut()
+        .zip(q.par_iter_mut())
+        .enumerate()
+        .for_each(|(k, (pk, qk))| {
+            if a[k].is_finite() && b[k].is_finite() {
+                match f(a[k], b[k]) {
+                    Ok((u, v)) => {
+                        *pk = u;
+                        *qk = v;
+                    }
+                    Err(_) => failed.store(true, std::sync::atomic::Ordering::Relaxed),
+                }
+            }
+        });
+    if failed.into_inner() {
+        for k in 0..n {
+            if a[k].is_finite() && b[k].is_finite() {
+                f(a[k], b[k]).map_err(|e| (k, e))?;
+            }
+        }
+    }
+    Ok((p, q))
 }
 
 fn crs_value(file: &Path, line: u64, column: &str, e: CrsError) -> ImportError {

@@ -317,6 +317,37 @@ pub fn spacing(s: &Survey) -> Spacing {
     }
 }
 
+/// Compares station elevations with a terrain model. Returns a warning when
+/// their median ratio is close to 3.28 (elevations in feet read as metres) or
+/// to 0.3048 (the reverse), or when they differ by more than `tolerance_m`
+/// in the median. Stations outside the DEM are skipped.
+pub fn elevation_vs_dem(s: &Survey, dem: &crate::grid::Grid2, tolerance_m: f64) -> Option<String> {
+    let z = s.elevation_m.as_ref()?;
+    let mut ratios = Vec::new();
+    let mut diffs = Vec::new();
+    for k in 0..s.n_rows() {
+        if let Ok(h) = dem.sample(s.x[k], s.y[k]) {
+            if z[k].is_finite() {
+                diffs.push(z[k] - h);
+                if h.abs() > 1.0 {
+                    ratios.push(z[k] / h);
+                }
+            }
+        }
+    }
+    let r = median(&mut ratios)?;
+    let d = median(&mut diffs)?;
+    if (r - 1.0 / 0.3048).abs() < 0.15 {
+        Some(format!("station elevations are about 3.28 times the terrain model (median ratio {r:.3}): they look like feet read as metres"))
+    } else if (r - 0.3048).abs() < 0.02 {
+        Some(format!("station elevations are about 0.305 times the terrain model (median ratio {r:.3}): the terrain model may be in feet"))
+    } else if d.abs() > tolerance_m {
+        Some(format!("station elevations differ from the terrain model by {d:.1} m in the median; check the height reference (ellipsoidal or orthometric) and units"))
+    } else {
+        None
+    }
+}
+
 /// Flags of a survey's first channel with the given role, convenience for
 /// commands.
 pub fn flags_for_role(s: &Survey, role: Role) -> Option<ChannelFlags> {
@@ -441,6 +472,23 @@ mod tests {
             reject: false,
         }]);
         assert!(f.usable(10));
+    }
+
+    #[test]
+    fn elevations_in_feet_are_caught_against_the_dem() {
+        let (mut s, _) = synthetic();
+        let mut dem = crate::grid::Grid2::new_empty(-50.0, -50.0, 50.0, 50.0, 25, 8).unwrap();
+        for (k, v) in dem.values.iter_mut().enumerate() {
+            *v = 300.0 + (k % 25) as f64;
+        }
+        let z: Vec<f64> = (0..s.n_rows())
+            .map(|k| dem.sample(s.x[k], s.y[k]).unwrap() + 1.5)
+            .collect();
+        s.elevation_m = Some(z.clone());
+        assert_eq!(elevation_vs_dem(&s, &dem, 10.0), None);
+        s.elevation_m = Some(z.iter().map(|v| v / 0.3048).collect());
+        let w = elevation_vs_dem(&s, &dem, 10.0).unwrap();
+        assert!(w.contains("feet"), "{w}");
     }
 
     #[test]

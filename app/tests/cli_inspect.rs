@@ -1,0 +1,59 @@
+//! `fieldstone inspect` end to end.
+
+use std::process::Command;
+
+fn inspect(text: &[u8], args: &[&str]) -> std::process::Output {
+    let p = std::env::temp_dir().join(format!(
+        "fieldstone-inspect-{}-{}.txt",
+        std::process::id(),
+        args.len()
+    ));
+    std::fs::write(&p, text).unwrap();
+    Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+        .arg("inspect")
+        .arg(&p)
+        .args(args)
+        .output()
+        .unwrap()
+}
+
+#[test]
+fn reports_layout_roles_counts_ranges_and_lines() {
+    let o = inspect(b"Line;Easting;Northing;Mag_nT\nL1;500000;7000000;55001,5\nL1;500005;7000000;*\nL2;500000;7000100;-99999\n", &["--dummy", "-99999"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let s = String::from_utf8_lossy(&o.stdout);
+    for want in [
+        "delimiter: semicolon (detected)",
+        "header: yes (detected)",
+        "rows: 3",
+        "dummies: 2",
+        "easting (x)",
+        "magnetic reading",
+        "nT",
+        "55001.500",
+        "lines: 2 (from column 'Line')",
+    ] {
+        assert!(s.contains(want), "missing '{want}' in:\n{s}");
+    }
+}
+
+#[test]
+fn overrides_and_errors() {
+    let o = inspect(
+        b"1 2 3\n4 5 6\n",
+        &["--delimiter", "whitespace", "--no-header"],
+    );
+    let s = String::from_utf8_lossy(&o.stdout);
+    assert!(
+        s.contains("whitespace (given)")
+            && s.contains("header: no (given)")
+            && s.contains("rows: 2"),
+        "{s}"
+    );
+    let o = inspect(b"x,y\n1,2\n1\n", &[]);
+    assert!(!o.status.success());
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(e.contains("line 3") && e.contains("expected 2"), "{e}");
+    let o = inspect(b"x,y\n", &["--delimiter", "pipe"]);
+    assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("pipe"));
+}
