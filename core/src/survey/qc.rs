@@ -325,12 +325,12 @@ pub fn elevation_vs_dem(s: &Survey, dem: &crate::grid::Grid2, tolerance_m: f64) 
     let z = s.elevation_m.as_ref()?;
     let mut ratios = Vec::new();
     let mut diffs = Vec::new();
-    for k in 0..s.n_rows() {
-        if let Ok(h) = dem.sample(s.x[k], s.y[k]) {
-            if z[k].is_finite() {
-                diffs.push(z[k] - h);
+    for ((&zk, &xk), &yk) in z.iter().zip(&s.x).zip(&s.y) {
+        if let Ok(h) = dem.sample(xk, yk) {
+            if zk.is_finite() {
+                diffs.push(zk - h);
                 if h.abs() > 1.0 {
-                    ratios.push(z[k] / h);
+                    ratios.push(zk / h);
                 }
             }
         }
