@@ -9,4 +9,6 @@
 
 pub mod crs;
 pub mod ellipsoid;
+pub mod igrf;
+pub mod normal_gravity;
 pub mod tm;
