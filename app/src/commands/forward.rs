@@ -1,8 +1,9 @@
 //! `fieldstone forward --bodies BODIES.json --stations STATIONS.csv --out OUT.csv`
 
 use clap::Args;
-use fieldstone_core::forward::{bodies, stations};
+use fieldstone_core::forward::bodies;
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
+use fieldstone_core::table::passthrough::{read_passthrough, write_with_columns};
 use std::path::PathBuf;
 use std::time::Instant;
 
@@ -43,8 +44,22 @@ pub fn run(args: &ForwardArgs) -> Result<(), String> {
     } else {
         &GRAVITY_COLUMNS
     };
-    let table = stations::read_stations(&args.stations, names).map_err(|e| e.to_string())?;
-    let fields = model.evaluate(&table.positions).map_err(|e| {
+    let table = read_passthrough(&args.stations, names).map_err(|e| e.to_string())?;
+    let hint = "the station file needs x, y, z in metres (z is elevation, up)";
+    let cols = [
+        table.require("x", hint),
+        table.require("y", hint),
+        table.require("z", hint),
+    ];
+    let mut coords = Vec::with_capacity(3);
+    for c in cols {
+        let c = c.map_err(|e| e.to_string())?;
+        coords.push(table.numbers(c, true).map_err(|e| e.to_string())?);
+    }
+    let positions: Vec<[f64; 3]> = (0..table.n_rows())
+        .map(|i| [coords[0][i], coords[1][i], coords[2][i]])
+        .collect();
+    let fields = model.evaluate(&positions).map_err(|e| {
         // Name the file line of the failing station rather than its index.
         let line = match &e {
             fieldstone_core::forward::FieldError::OnEdge { station, .. }
@@ -55,7 +70,7 @@ pub fn run(args: &ForwardArgs) -> Result<(), String> {
         format!("{}: line {line}: {e}", args.stations.display())
     })?;
     let result: Result<(), OutError> = write_atomically(&args.out, |w| {
-        stations::write_with_columns(
+        write_with_columns(
             &table,
             names,
             |i| {
@@ -73,7 +88,7 @@ pub fn run(args: &ForwardArgs) -> Result<(), String> {
     eprintln!(
         "forward: {} bodies at {} stations -> {} ({:.3} s)",
         model.bodies.len(),
-        table.positions.len(),
+        positions.len(),
         args.out.display(),
         start.elapsed().as_secs_f64()
     );

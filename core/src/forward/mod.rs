@@ -2,13 +2,12 @@
 //!
 //! * [`bodies`]: the body file (JSON), parsed and checked with JSON paths in
 //!   every message.
-//! * [`stations`]: the station table (CSV with x, y, z and pass-through
-//!   columns), read with file and line in every message, and the output table.
+//! * stations are read with [`crate::table::passthrough`] (x, y, z plus
+//!   columns carried through to the output).
 //! * [`ForwardModel::evaluate`]: the fields of all bodies at all stations, in
 //!   parallel over stations.
 
 pub mod bodies;
-pub mod stations;
 
 use crate::physics::{gravity, magnetic, magnetic::InducingField, Prism};
 use rayon::prelude::*;

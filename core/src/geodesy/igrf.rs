@@ -47,7 +47,9 @@ pub enum IgrfError {
     OutOfRange(f64),
     #[error("latitude {0}° is outside −90° to 90°")]
     Latitude(f64),
-    #[error("height {0} m is outside −10 km to 600 km, where a main-field model of the surface applies")]
+    #[error(
+        "height {0} m is outside −10 km to 600 km, where a main-field model of the surface applies"
+    )]
     Height(f64),
     #[error("the coefficient table is malformed at line {line}: {message}")]
     Table { line: usize, message: String },
@@ -75,7 +77,10 @@ impl IgrfModel {
     /// The shipped IGRF-14 model.
     pub fn igrf14() -> &'static IgrfModel {
         static MODEL: std::sync::OnceLock<IgrfModel> = std::sync::OnceLock::new();
-        MODEL.get_or_init(|| IgrfModel::parse(IGRF14_TABLE).expect("the shipped IGRF-14 table parses (checked by tests)"))
+        MODEL.get_or_init(|| {
+            IgrfModel::parse(IGRF14_TABLE)
+                .expect("the shipped IGRF-14 table parses (checked by tests)")
+        })
     }
 
     /// Parses a table in the IAGA coefficient format.
@@ -89,26 +94,43 @@ impl IgrfModel {
             }
             let f: Vec<&str> = t.split_whitespace().collect();
             if f[0] == "g/h" {
-                epochs = f[3..f.len() - 1].iter().map(|v| v.parse::<f64>()).collect::<Result<_, _>>().map_err(|_| IgrfError::Table { line: ln + 1, message: "bad epoch".into() })?;
+                epochs = f[3..f.len() - 1]
+                    .iter()
+                    .map(|v| v.parse::<f64>())
+                    .collect::<Result<_, _>>()
+                    .map_err(|_| IgrfError::Table {
+                        line: ln + 1,
+                        message: "bad epoch".into(),
+                    })?;
                 continue;
             }
             if f[0] != "g" && f[0] != "h" {
                 continue;
             }
-            let bad = |m: &str| IgrfError::Table { line: ln + 1, message: m.to_string() };
+            let bad = |m: &str| IgrfError::Table {
+                line: ln + 1,
+                message: m.to_string(),
+            };
             let n: usize = f[1].parse().map_err(|_| bad("bad degree"))?;
             let m: usize = f[2].parse().map_err(|_| bad("bad order"))?;
             if n == 0 || m > n {
                 return Err(bad("degree and order out of range"));
             }
-            let vals: Vec<f64> = f[3..].iter().map(|v| v.parse::<f64>()).collect::<Result<_, _>>().map_err(|_| bad("bad value"))?;
+            let vals: Vec<f64> = f[3..]
+                .iter()
+                .map(|v| v.parse::<f64>())
+                .collect::<Result<_, _>>()
+                .map_err(|_| bad("bad value"))?;
             if epochs.is_empty() || vals.len() != epochs.len() + 1 {
                 return Err(bad("value count does not match the epochs"));
             }
             let sv = vals[vals.len() - 1];
             rows.push((f[0] == "g", n, m, vals[..vals.len() - 1].to_vec(), sv));
         }
-        let n_max = rows.iter().map(|r| r.1).max().ok_or(IgrfError::Table { line: 0, message: "no coefficients".into() })?;
+        let n_max = rows.iter().map(|r| r.1).max().ok_or(IgrfError::Table {
+            line: 0,
+            message: "no coefficients".into(),
+        })?;
         let size = idx(n_max, n_max) + 1;
         let mut g = vec![vec![0.0; size]; epochs.len()];
         let mut h = vec![vec![0.0; size]; epochs.len()];
@@ -128,7 +150,14 @@ impl IgrfModel {
                 h_sv[k] = sv;
             }
         }
-        Ok(IgrfModel { epochs, g, h, g_sv, h_sv, n_max })
+        Ok(IgrfModel {
+            epochs,
+            g,
+            h,
+            g_sv,
+            h_sv,
+            n_max,
+        })
     }
 
     /// Last date of validity (last epoch + 5 years of secular variation).
@@ -146,17 +175,42 @@ impl IgrfModel {
         if t >= last {
             let dt = t - last;
             let e = self.epochs.len() - 1;
-            return Ok((self.g[e].iter().zip(&self.g_sv).map(|(a, s)| a + s * dt).collect(), self.h[e].iter().zip(&self.h_sv).map(|(a, s)| a + s * dt).collect()));
+            return Ok((
+                self.g[e]
+                    .iter()
+                    .zip(&self.g_sv)
+                    .map(|(a, s)| a + s * dt)
+                    .collect(),
+                self.h[e]
+                    .iter()
+                    .zip(&self.h_sv)
+                    .map(|(a, s)| a + s * dt)
+                    .collect(),
+            ));
         }
         let e = self.epochs.partition_point(|&ep| ep <= t) - 1;
         let w = (t - self.epochs[e]) / (self.epochs[e + 1] - self.epochs[e]);
-        let lerp = |a: &[f64], b: &[f64]| a.iter().zip(b).map(|(x, y)| x + w * (y - x)).collect::<Vec<f64>>();
-        Ok((lerp(&self.g[e], &self.g[e + 1]), lerp(&self.h[e], &self.h[e + 1])))
+        let lerp = |a: &[f64], b: &[f64]| {
+            a.iter()
+                .zip(b)
+                .map(|(x, y)| x + w * (y - x))
+                .collect::<Vec<f64>>()
+        };
+        Ok((
+            lerp(&self.g[e], &self.g[e + 1]),
+            lerp(&self.h[e], &self.h[e + 1]),
+        ))
     }
 
     /// The field at geodetic latitude and longitude (degrees), height above
     /// the WGS 84 ellipsoid (m) and decimal year.
-    pub fn field(&self, lat_deg: f64, lon_deg: f64, height_m: f64, year: f64) -> Result<MainField, IgrfError> {
+    pub fn field(
+        &self,
+        lat_deg: f64,
+        lon_deg: f64,
+        height_m: f64,
+        year: f64,
+    ) -> Result<MainField, IgrfError> {
         if !(-90.0..=90.0).contains(&lat_deg) {
             return Err(IgrfError::Latitude(lat_deg));
         }
@@ -169,7 +223,14 @@ impl IgrfModel {
 
     /// Synthesis from given coefficients (shared by [`Self::field`] and
     /// [`FieldAtDate`]).
-    fn synthesise(&self, g: &[f64], h: &[f64], lat_deg: f64, lon_deg: f64, height_m: f64) -> MainField {
+    fn synthesise(
+        &self,
+        g: &[f64],
+        h: &[f64],
+        lat_deg: f64,
+        lon_deg: f64,
+        height_m: f64,
+    ) -> MainField {
         let alt = height_m / 1000.0;
         // Geodetic → geocentric (WGS 84), as in the IAGA reference program.
         let (a2, b2) = (WGS84_A_KM * WGS84_A_KM, WGS84_B_KM * WGS84_B_KM);
@@ -195,14 +256,26 @@ impl IgrfModel {
         for n in 1..=nmax {
             for m in 0..=n {
                 if n == m {
-                    let f = if n == 1 { 1.0 } else { ((2 * n - 1) as f64 / (2 * n) as f64).sqrt() };
+                    let f = if n == 1 {
+                        1.0
+                    } else {
+                        ((2 * n - 1) as f64 / (2 * n) as f64).sqrt()
+                    };
                     p[n][n] = f * st * p[n - 1][n - 1];
                     dp[n][n] = f * (ct * p[n - 1][n - 1] + st * dp[n - 1][n - 1]);
                 } else {
                     let a = (2 * n - 1) as f64;
                     let den = ((n * n - m * m) as f64).sqrt();
-                    let k = if n >= 2 && m + 2 <= n { (((n - 1) * (n - 1) - m * m) as f64).sqrt() } else { 0.0 };
-                    let (p2, dp2) = if n >= 2 && m + 2 <= n { (p[n - 2][m], dp[n - 2][m]) } else { (0.0, 0.0) };
+                    let k = if n >= 2 && m + 2 <= n {
+                        (((n - 1) * (n - 1) - m * m) as f64).sqrt()
+                    } else {
+                        0.0
+                    };
+                    let (p2, dp2) = if n >= 2 && m + 2 <= n {
+                        (p[n - 2][m], dp[n - 2][m])
+                    } else {
+                        (0.0, 0.0)
+                    };
                     p[n][m] = (a * ct * p[n - 1][m] - k * p2) / den;
                     dp[n][m] = (a * (ct * dp[n - 1][m] - st * p[n - 1][m]) - k * dp2) / den;
                 }
@@ -228,7 +301,15 @@ impl IgrfModel {
         x = x * cd + z * sd;
         z = z * cd - x_old * sd;
         let hh = x.hypot(y);
-        MainField { x_nt: x, y_nt: y, z_nt: z, h_nt: hh, f_nt: hh.hypot(z), inclination_deg: z.atan2(hh).to_degrees(), declination_deg: y.atan2(x).to_degrees() }
+        MainField {
+            x_nt: x,
+            y_nt: y,
+            z_nt: z,
+            h_nt: hh,
+            f_nt: hh.hypot(z),
+            inclination_deg: z.atan2(hh).to_degrees(),
+            declination_deg: y.atan2(x).to_degrees(),
+        }
     }
 
     /// Coefficients fixed at one date, for evaluating many points quickly.
@@ -254,7 +335,9 @@ impl FieldAtDate<'_> {
         if !(-10_000.0..=600_000.0).contains(&height_m) {
             return Err(IgrfError::Height(height_m));
         }
-        Ok(self.model.synthesise(&self.g, &self.h, lat_deg, lon_deg, height_m))
+        Ok(self
+            .model
+            .synthesise(&self.g, &self.h, lat_deg, lon_deg, height_m))
     }
 }
 
@@ -277,7 +360,8 @@ pub fn decimal_year_of_epoch_seconds(t_s: f64) -> f64 {
 
 /// Parses YYYY-MM-DD to a decimal year (at 00:00 UTC).
 pub fn decimal_year_of_date(text: &str) -> Result<f64, IgrfError> {
-    let days = crate::survey::time::parse_date(text, crate::survey::time::DateOrder::YearMonthDay).map_err(|_| IgrfError::Date(text.to_string()))?;
+    let days = crate::survey::time::parse_date(text, crate::survey::time::DateOrder::YearMonthDay)
+        .map_err(|_| IgrfError::Date(text.to_string()))?;
     Ok(decimal_year_of_epoch_seconds(days as f64 * 86_400.0))
 }
 
@@ -303,8 +387,14 @@ mod tests {
     #[test]
     fn dates_outside_the_model_are_refused() {
         let m = IgrfModel::igrf14();
-        assert!(matches!(m.field(10.0, 10.0, 0.0, 2031.0), Err(IgrfError::OutOfRange(_))));
-        assert!(matches!(m.field(10.0, 10.0, 0.0, 1899.9), Err(IgrfError::OutOfRange(_))));
+        assert!(matches!(
+            m.field(10.0, 10.0, 0.0, 2031.0),
+            Err(IgrfError::OutOfRange(_))
+        ));
+        assert!(matches!(
+            m.field(10.0, 10.0, 0.0, 1899.9),
+            Err(IgrfError::OutOfRange(_))
+        ));
         assert!(m.field(95.0, 0.0, 0.0, 2026.0).is_err());
         assert!((decimal_year(2026, 7, 2, 43_200.0) - (2026.0 + 182.5 / 365.0)).abs() < 1e-12);
         assert!(decimal_year_of_date("2026-13-01").is_err());

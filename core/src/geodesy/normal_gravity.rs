@@ -24,13 +24,25 @@ pub struct NormalGravityModel {
 
 /// GRS80 (Moritz 2000): b = 6 356 752.3141 m, e² = 0.006 694 380 022 90,
 /// γ_e = 9.780 326 7715 m/s², γ_p = 9.832 186 3685 m/s².
-pub const GRS80_GRAVITY: NormalGravityModel =
-    NormalGravityModel { name: "GRS80", a_m: 6_378_137.0, b_m: 6_356_752.3141, e2: 0.006_694_380_022_90, gamma_e: 9.780_326_771_5, gamma_p: 9.832_186_368_5 };
+pub const GRS80_GRAVITY: NormalGravityModel = NormalGravityModel {
+    name: "GRS80",
+    a_m: 6_378_137.0,
+    b_m: 6_356_752.3141,
+    e2: 0.006_694_380_022_90,
+    gamma_e: 9.780_326_771_5,
+    gamma_p: 9.832_186_368_5,
+};
 
 /// WGS 84 (NIMA TR8350.2, 3rd ed., Table 3.4): b = 6 356 752.3142 m,
 /// e² = 0.006 694 379 990 14, γ_e = 9.780 325 3359 m/s², γ_p = 9.832 184 9378 m/s².
-pub const WGS84_GRAVITY: NormalGravityModel =
-    NormalGravityModel { name: "WGS 84", a_m: 6_378_137.0, b_m: 6_356_752.3142, e2: 0.006_694_379_990_14, gamma_e: 9.780_325_335_9, gamma_p: 9.832_184_937_8 };
+pub const WGS84_GRAVITY: NormalGravityModel = NormalGravityModel {
+    name: "WGS 84",
+    a_m: 6_378_137.0,
+    b_m: 6_356_752.3142,
+    e2: 0.006_694_379_990_14,
+    gamma_e: 9.780_325_335_9,
+    gamma_p: 9.832_184_937_8,
+};
 
 /// The ellipsoid used for normal gravity.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
@@ -80,8 +92,17 @@ mod tests {
         // stated relative accuracy 10⁻¹⁰ (≈ 0.0001 mGal).
         for lat in [-75.0, -45.0, -10.0, 5.0, 30.0, 51.5, 67.0, 89.0] {
             let s2: f64 = (lat as f64).to_radians().sin().powi(2);
-            let series = 978_032.677_15 * (1.0 + 0.005_279_041_4 * s2 + 0.000_023_271_8 * s2 * s2 + 0.000_000_126_2 * s2.powi(3) + 0.000_000_000_7 * s2.powi(4));
-            assert!((GRS80_GRAVITY.on_ellipsoid_mgal(lat) - series).abs() < 2e-4, "{lat}: {} vs {series}", GRS80_GRAVITY.on_ellipsoid_mgal(lat));
+            let series = 978_032.677_15
+                * (1.0
+                    + 0.005_279_041_4 * s2
+                    + 0.000_023_271_8 * s2 * s2
+                    + 0.000_000_126_2 * s2.powi(3)
+                    + 0.000_000_000_7 * s2.powi(4));
+            assert!(
+                (GRS80_GRAVITY.on_ellipsoid_mgal(lat) - series).abs() < 2e-4,
+                "{lat}: {} vs {series}",
+                GRS80_GRAVITY.on_ellipsoid_mgal(lat)
+            );
         }
     }
 }

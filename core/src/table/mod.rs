@@ -13,6 +13,7 @@
 //! fields may be quoted with `"` (a doubled `""` inside is a quote); LF and
 //! CRLF endings, a UTF-8 byte-order mark and Windows-1252 text are accepted.
 
+pub mod passthrough;
 pub mod read;
 pub mod sniff;
 

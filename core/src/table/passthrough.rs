@@ -1,0 +1,375 @@
+//! Tables whose columns are carried through to an output unchanged.
+//!
+//! Headless commands that add computed columns to a user's table (forward
+//! modelling, reductions) read it with [`read_passthrough`]: the header and
+//! every field are kept byte for byte, numeric columns are parsed on request
+//! with file, line and column in every message, and [`write_with_columns`]
+//! writes the input columns plus the new ones. Comma, semicolon and tab
+//! delimiters are recognised from the header; lines starting with `#` are
+//! comments; LF and CRLF endings, a UTF-8 byte-order mark and Windows-1252
+//! text are accepted.
+
+use crate::io::text::{decode_lossless_enough, strip_bom};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// A problem with a pass-through table.
+#[derive(Debug, Error)]
+pub enum PassThroughError {
+    #[error("cannot read {file}: {source}")]
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
+    #[error("{file}: the file is empty; expected a header row")]
+    Empty { file: PathBuf },
+    #[error("{file}: the header has no column named '{name}' (found: {found}){hint}")]
+    MissingColumn {
+        file: PathBuf,
+        name: String,
+        found: String,
+        hint: String,
+    },
+    #[error("{file}: line 1: column name '{name}' appears more than once (columns {first} and {second})")]
+    DuplicateColumn {
+        file: PathBuf,
+        name: String,
+        first: usize,
+        second: usize,
+    },
+    #[error("{file}: line 1: the input already has a column '{name}', which the output would add again; rename it")]
+    OutputNameTaken { file: PathBuf, name: String },
+    #[error("{file}: the header is the only row; there is no data")]
+    NoRows { file: PathBuf },
+    #[error("{file}: line {line}: expected {expected} fields as in the header, found {found}")]
+    Ragged {
+        file: PathBuf,
+        line: u64,
+        expected: u64,
+        found: u64,
+    },
+    #[error("{file}: line {line}, column '{column}': '{text}' is not a number")]
+    NotNumber {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        text: String,
+    },
+    #[error("{file}: line {line}, column '{column}': the value is missing or a dummy ('{text}')")]
+    Missing {
+        file: PathBuf,
+        line: u64,
+        column: String,
+        text: String,
+    },
+    #[error("{file}: line {line}: {message}")]
+    Csv {
+        file: PathBuf,
+        line: u64,
+        message: String,
+    },
+}
+
+/// A table with raw header and rows kept for pass-through.
+#[derive(Debug, Clone)]
+pub struct PassThroughTable {
+    pub file: PathBuf,
+    pub header: csv::ByteRecord,
+    pub names: Vec<String>,
+    pub rows: Vec<csv::ByteRecord>,
+    /// File line of each row.
+    pub lines: Vec<u64>,
+}
+
+/// Picks the delimiter from the first non-comment line: the most frequent of
+/// comma, semicolon and tab (comma when none appears).
+fn sniff_delimiter(bytes: &[u8]) -> u8 {
+    let first = bytes
+        .split(|&b| b == b'\n')
+        .find(|l| !l.is_empty() && l[0] != b'#' && !l.iter().all(|b| b.is_ascii_whitespace()))
+        .unwrap_or(b"");
+    let count = |d: u8| first.iter().filter(|&&b| b == d).count();
+    let mut best = (b',', count(b','));
+    for d in [b';', b'\t'] {
+        let c = count(d);
+        if c > best.1 {
+            best = (d, c);
+        }
+    }
+    best.0
+}
+
+/// Reads a table from a file; `output_columns` are names the output will add
+/// and must not be present already.
+pub fn read_passthrough(
+    path: &Path,
+    output_columns: &[&str],
+) -> Result<PassThroughTable, PassThroughError> {
+    let bytes = std::fs::read(path).map_err(|source| PassThroughError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
+    parse_passthrough(&bytes, path, output_columns)
+}
+
+/// Parses table bytes; `file` is used in messages.
+pub fn parse_passthrough(
+    bytes: &[u8],
+    file: &Path,
+    output_columns: &[&str],
+) -> Result<PassThroughTable, PassThroughError> {
+    let file_buf = file.to_path_buf();
+    let bytes = strip_bom(bytes);
+    if bytes.iter().all(|b| b.is_ascii_whitespace()) {
+        return Err(PassThroughError::Empty { file: file_buf });
+    }
+    let mut rdr = csv::ReaderBuilder::new()
+        .delimiter(sniff_delimiter(bytes))
+        .comment(Some(b'#'))
+        .has_headers(true)
+        .flexible(false)
+        .from_reader(bytes);
+    let csv_err = |e: csv::Error| match e.kind() {
+        csv::ErrorKind::UnequalLengths {
+            pos,
+            expected_len,
+            len,
+        } => PassThroughError::Ragged {
+            file: file_buf.clone(),
+            line: pos.as_ref().map(|p| p.line()).unwrap_or(0),
+            expected: *expected_len,
+            found: *len,
+        },
+        _ => PassThroughError::Csv {
+            file: file_buf.clone(),
+            line: e.position().map(|p| p.line()).unwrap_or(0),
+            message: e.to_string(),
+        },
+    };
+    let header = rdr.byte_headers().map_err(csv_err)?.clone();
+    let names: Vec<String> = header
+        .iter()
+        .map(|h| decode_lossless_enough(h).trim().to_string())
+        .collect();
+    for (i, n) in names.iter().enumerate() {
+        if let Some(j) = names[..i].iter().position(|m| m.eq_ignore_ascii_case(n)) {
+            return Err(PassThroughError::DuplicateColumn {
+                file: file_buf,
+                name: n.clone(),
+                first: j + 1,
+                second: i + 1,
+            });
+        }
+        if output_columns.iter().any(|o| o.eq_ignore_ascii_case(n)) {
+            return Err(PassThroughError::OutputNameTaken {
+                file: file_buf,
+                name: n.clone(),
+            });
+        }
+    }
+    let mut rows = Vec::new();
+    let mut lines = Vec::new();
+    let mut rec = csv::ByteRecord::new();
+    loop {
+        match rdr.read_byte_record(&mut rec) {
+            Ok(false) => break,
+            Ok(true) => {}
+            Err(e) => return Err(csv_err(e)),
+        }
+        lines.push(rec.position().map(|p| p.line()).unwrap_or(0));
+        rows.push(rec.clone());
+    }
+    if rows.is_empty() {
+        return Err(PassThroughError::NoRows { file: file_buf });
+    }
+    Ok(PassThroughTable {
+        file: file_buf,
+        header,
+        names,
+        rows,
+        lines,
+    })
+}
+
+impl PassThroughTable {
+    pub fn n_rows(&self) -> usize {
+        self.rows.len()
+    }
+
+    /// Index of a column by name (case-insensitive).
+    pub fn column(&self, name: &str) -> Option<usize> {
+        self.names.iter().position(|n| n.eq_ignore_ascii_case(name))
+    }
+
+    /// Index of a required column, or an error listing what the file has.
+    pub fn require(&self, name: &str, hint: &str) -> Result<usize, PassThroughError> {
+        self.column(name)
+            .ok_or_else(|| PassThroughError::MissingColumn {
+                file: self.file.clone(),
+                name: name.to_string(),
+                found: self.names.join(", "),
+                hint: if hint.is_empty() {
+                    String::new()
+                } else {
+                    format!("; {hint}")
+                },
+            })
+    }
+
+    /// Text of field `col` in row `r`, trimmed.
+    pub fn text(&self, r: usize, col: usize) -> String {
+        decode_lossless_enough(self.rows[r].get(col).unwrap_or(b""))
+            .trim()
+            .to_string()
+    }
+
+    /// Parses column `col` as finite numbers. Dummies (empty, `*`, `NaN`,
+    /// `NA`, ...) are errors when `required`, NaN otherwise.
+    pub fn numbers(&self, col: usize, required: bool) -> Result<Vec<f64>, PassThroughError> {
+        let mut out = Vec::with_capacity(self.rows.len());
+        for r in 0..self.rows.len() {
+            let t = self.text(r, col);
+            if crate::table::is_dummy_token(&t) {
+                if required {
+                    return Err(PassThroughError::Missing {
+                        file: self.file.clone(),
+                        line: self.lines[r],
+                        column: self.names[col].clone(),
+                        text: t,
+                    });
+                }
+                out.push(f64::NAN);
+                continue;
+            }
+            match t.parse::<f64>() {
+                Ok(v) if v.is_finite() => out.push(v),
+                _ => {
+                    return Err(PassThroughError::NotNumber {
+                        file: self.file.clone(),
+                        line: self.lines[r],
+                        column: self.names[col].clone(),
+                        text: t,
+                    })
+                }
+            }
+        }
+        Ok(out)
+    }
+}
+
+/// Writes the table with extra numeric columns appended: `extra_names` in the
+/// header and `extra(i)` for row i. Numbers are written in the shortest form
+/// that reads back to the same f64; NaN is written as an empty field. The
+/// output is comma-delimited.
+pub fn write_with_columns(
+    table: &PassThroughTable,
+    extra_names: &[&str],
+    mut extra: impl FnMut(usize) -> Vec<f64>,
+    out: &mut dyn Write,
+) -> Result<(), csv::Error> {
+    let mut w = csv::WriterBuilder::new().from_writer(out);
+    let mut h = table.header.clone();
+    for n in extra_names {
+        h.push_field(n.as_bytes());
+    }
+    w.write_byte_record(&h)?;
+    let mut rec = csv::ByteRecord::new();
+    for (i, row) in table.rows.iter().enumerate() {
+        rec.clear();
+        for f in row.iter() {
+            rec.push_field(f);
+        }
+        for v in extra(i) {
+            if v.is_finite() {
+                rec.push_field(format!("{v}").as_bytes());
+            } else {
+                rec.push_field(b"");
+            }
+        }
+        w.write_byte_record(&rec)?;
+    }
+    w.flush()?;
+    Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn parse(s: &[u8]) -> Result<PassThroughTable, PassThroughError> {
+        parse_passthrough(s, Path::new("st.csv"), &["gz_mgal"])
+    }
+
+    #[test]
+    fn reads_comma_semicolon_tab_crlf_and_bom() {
+        for text in [
+            &b"x,y,z,name\n1,2,3,a\n4,5,6,b\n"[..],
+            b"\xEF\xBB\xBFx;y;z;name\r\n1;2;3;a\r\n4;5;6;b\r\n",
+            b"# survey 7\nX\tY\tZ\tname\n1\t2\t3\ta\n4\t5\t6\tb\n",
+        ] {
+            let t = parse(text).unwrap();
+            let z = t.require("z", "").unwrap();
+            assert_eq!(t.numbers(z, true).unwrap(), vec![3.0, 6.0]);
+            assert_eq!(&t.rows[1][3], b"b");
+        }
+    }
+
+    #[test]
+    fn errors_name_file_line_and_column() {
+        let t = parse(b"x,y,z\n1,2,3\n1,zz,3\n").unwrap();
+        let e = t.numbers(1, true).unwrap_err().to_string();
+        assert!(
+            e.contains("st.csv") && e.contains("line 3") && e.contains("'y'") && e.contains("zz"),
+            "{e}"
+        );
+        let e = parse(b"x,y,z\n1,2,3\n1,2\n").unwrap_err().to_string();
+        assert!(
+            e.contains("line 3") && e.contains("expected 3") && e.contains("found 2"),
+            "{e}"
+        );
+        let t = parse(b"x,y,h\n1,2,3\n").unwrap();
+        let e = t
+            .require("z", "give elevations in metres")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            e.contains("'z'") && e.contains("x, y, h") && e.contains("metres"),
+            "{e}"
+        );
+        let t = parse(b"x,y,z\n1,,3\n").unwrap();
+        assert!(t
+            .numbers(1, true)
+            .unwrap_err()
+            .to_string()
+            .contains("missing"));
+        assert!(t.numbers(1, false).unwrap()[0].is_nan());
+        let t = parse(b"x,y,z\n1,2,inf\n").unwrap();
+        assert!(t
+            .numbers(2, true)
+            .unwrap_err()
+            .to_string()
+            .contains("not a number"));
+        assert!(matches!(parse(b""), Err(PassThroughError::Empty { .. })));
+        assert!(matches!(
+            parse(b"x,y,z\n"),
+            Err(PassThroughError::NoRows { .. })
+        ));
+        assert!(matches!(
+            parse(b"x,y,z,X\n1,2,3,4\n"),
+            Err(PassThroughError::DuplicateColumn { .. })
+        ));
+        assert!(matches!(
+            parse(b"x,y,z,gz_mgal\n1,2,3,4\n"),
+            Err(PassThroughError::OutputNameTaken { .. })
+        ));
+    }
+
+    #[test]
+    fn non_utf8_pass_through_columns_survive_unchanged() {
+        let t = parse(b"x,y,z,note\n1,2,3,H\xF6he\n").unwrap();
+        let mut out = Vec::new();
+        write_with_columns(&t, &["gz_mgal", "other"], |_| vec![0.5, f64::NAN], &mut out).unwrap();
+        assert_eq!(out, b"x,y,z,note,gz_mgal,other\n1,2,3,H\xF6he,0.5,\n");
+    }
+}
