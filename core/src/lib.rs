@@ -8,6 +8,7 @@ pub mod geodesy;
 pub mod grid;
 pub mod io;
 pub mod physics;
+pub mod progress;
 pub mod reduce;
 pub mod survey;
 pub mod table;

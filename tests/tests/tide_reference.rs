@@ -7,7 +7,11 @@ use fieldstone_core::reduce::tide::tide_effect_mgal;
 
 #[test]
 fn longman_matches_an_ephemeris_based_tide() {
-    let text = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/fixtures/tide_ephem.json")).unwrap();
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/fixtures/tide_ephem.json"
+    ))
+    .unwrap();
     let fx: serde_json::Value = serde_json::from_str(&text).unwrap();
     let rows = fx["rows"].as_array().unwrap();
     assert!(rows.len() >= 30);

@@ -31,7 +31,10 @@ pub enum FreeAir {
 /// geodetic latitude `lat_deg`.
 pub fn free_air_correction_mgal(h_m: f64, lat_deg: f64, kind: FreeAir) -> f64 {
     match kind {
-        FreeAir::SecondOrder => (0.308_769_1 - 0.000_439_8 * lat_deg.to_radians().sin().powi(2)) * h_m - 7.2125e-8 * h_m * h_m,
+        FreeAir::SecondOrder => {
+            (0.308_769_1 - 0.000_439_8 * lat_deg.to_radians().sin().powi(2)) * h_m
+                - 7.2125e-8 * h_m * h_m
+        }
         FreeAir::FirstOrder => 0.3086 * h_m,
     }
 }
@@ -97,7 +100,13 @@ pub struct GravitySettings {
 
 impl Default for GravitySettings {
     fn default() -> Self {
-        GravitySettings { density_g_cc: 2.67, ellipsoid: GravityEllipsoid::Grs80, free_air: FreeAir::SecondOrder, atmospheric: true, curvature: true }
+        GravitySettings {
+            density_g_cc: 2.67,
+            ellipsoid: GravityEllipsoid::Grs80,
+            free_air: FreeAir::SecondOrder,
+            atmospheric: true,
+            curvature: true,
+        }
     }
 }
 
@@ -117,12 +126,26 @@ pub struct StationReduction {
 
 /// Reduces one station: observed gravity `g_mgal`, latitude, height (m) and a
 /// terrain correction already computed (mGal, 0 when not used).
-pub fn reduce_station(s: &GravitySettings, g_mgal: f64, lat_deg: f64, h_m: f64, terrain_mgal: f64) -> StationReduction {
+pub fn reduce_station(
+    s: &GravitySettings,
+    g_mgal: f64,
+    lat_deg: f64,
+    h_m: f64,
+    terrain_mgal: f64,
+) -> StationReduction {
     let normal = s.ellipsoid.model().on_ellipsoid_mgal(lat_deg);
     let fa = free_air_correction_mgal(h_m, lat_deg, s.free_air);
-    let atm = if s.atmospheric { atmospheric_correction_mgal(h_m) } else { 0.0 };
+    let atm = if s.atmospheric {
+        atmospheric_correction_mgal(h_m)
+    } else {
+        0.0
+    };
     let slab = bouguer_slab_mgal(h_m, s.density_g_cc);
-    let curv = if s.curvature { curvature_correction_mgal(h_m, s.density_g_cc) } else { 0.0 };
+    let curv = if s.curvature {
+        curvature_correction_mgal(h_m, s.density_g_cc)
+    } else {
+        0.0
+    };
     let faa = g_mgal - normal + fa + atm;
     let ba = faa - slab;
     StationReduction {
@@ -148,7 +171,10 @@ mod tests {
         assert!((free_air_correction_mgal(100.0, 45.0, FreeAir::FirstOrder) - 30.86).abs() < 1e-12);
         // Second order at 1000 m, 45°: (0.3087691 − 0.0004398·0.5)·1000 − 0.072125
         // = 308.5492 − 0.072125 = 308.477 075 mGal (Hinze et al. 2005, eq. 5).
-        assert!((free_air_correction_mgal(1000.0, 45.0, FreeAir::SecondOrder) - 308.477_075).abs() < 1e-6);
+        assert!(
+            (free_air_correction_mgal(1000.0, 45.0, FreeAir::SecondOrder) - 308.477_075).abs()
+                < 1e-6
+        );
         // Atmospheric at sea level 0.874 mGal, at 1000 m 0.874 − 0.099 + 0.00356.
         assert!((atmospheric_correction_mgal(0.0) - 0.874).abs() < 1e-12);
         assert!((atmospheric_correction_mgal(1000.0) - 0.778_56).abs() < 1e-9);
@@ -161,11 +187,28 @@ mod tests {
     fn anomalies_combine_the_corrections_as_documented() {
         let s = GravitySettings::default();
         let r = reduce_station(&s, 979_500.0, -33.0, 250.0, 0.4);
-        assert!((r.free_air_anomaly - (979_500.0 - r.normal_gravity + r.free_air_correction + r.atmospheric_correction)).abs() < 1e-9);
+        assert!(
+            (r.free_air_anomaly
+                - (979_500.0 - r.normal_gravity
+                    + r.free_air_correction
+                    + r.atmospheric_correction))
+                .abs()
+                < 1e-9
+        );
         assert!((r.bouguer_anomaly - (r.free_air_anomaly - r.bouguer_slab)).abs() < 1e-9);
-        assert!((r.complete_bouguer_anomaly - (r.bouguer_anomaly + r.curvature_correction + 0.4)).abs() < 1e-9);
-        let off = GravitySettings { atmospheric: false, curvature: false, ..s };
+        assert!(
+            (r.complete_bouguer_anomaly - (r.bouguer_anomaly + r.curvature_correction + 0.4)).abs()
+                < 1e-9
+        );
+        let off = GravitySettings {
+            atmospheric: false,
+            curvature: false,
+            ..s
+        };
         let r = reduce_station(&off, 979_500.0, -33.0, 250.0, 0.0);
-        assert_eq!((r.atmospheric_correction, r.curvature_correction), (0.0, 0.0));
+        assert_eq!(
+            (r.atmospheric_correction, r.curvature_correction),
+            (0.0, 0.0)
+        );
     }
 }

@@ -9,5 +9,9 @@
 //! * [`magnetic`]: diurnal correction from a base station, main-field removal,
 //!   and the survey's inducing field.
 
+pub mod drift;
 pub mod gravity;
+pub mod magnetic;
+pub mod nettleton;
+pub mod terrain;
 pub mod tide;

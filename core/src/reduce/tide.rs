@@ -58,7 +58,11 @@ pub fn longman_upward_gal(t_s: f64, lat_deg: f64, lon_deg: f64, height_m: f64) -
     let xi = n - alpha;
     let sigma = s - xi;
     // Moon's longitude in its orbit reckoned from the equator crossing.
-    let l = sigma + 2.0 * e * (s - p).sin() + 1.25 * e * e * (2.0 * (s - p)).sin() + 3.75 * m * e * (s - 2.0 * h + p).sin() + 1.375 * m * m * (2.0 * (s - h)).sin();
+    let l = sigma
+        + 2.0 * e * (s - p).sin()
+        + 1.25 * e * e * (2.0 * (s - p)).sin()
+        + 3.75 * m * e * (s - 2.0 * h + p).sin()
+        + 1.375 * m * m * (2.0 * (s - h)).sin();
     // Hour angle of the mean Sun (westward from the meridian of the place).
     let secs_of_day = (t_s.rem_euclid(86_400.0)) / 3600.0;
     let tt = (15.0 * (secs_of_day - 12.0) + lon_deg).to_radians();
@@ -71,17 +75,28 @@ pub fn longman_upward_gal(t_s: f64, lat_deg: f64, lon_deg: f64, height_m: f64) -
     // geodetic latitude the result differs by up to 0.008 mGal at mid-latitudes.
     let phi_geodetic = lat_deg.to_radians();
     let phi = ((1.0 - 0.006_694_379_990_14) * phi_geodetic.tan()).atan();
-    let cos_theta = phi.sin() * big_i.sin() * l.sin() + phi.cos() * ((big_i / 2.0).cos().powi(2) * (l - chi).cos() + (big_i / 2.0).sin().powi(2) * (l + chi).cos());
-    let cos_phi1 = phi.sin() * omega.sin() * l1.sin() + phi.cos() * ((omega / 2.0).cos().powi(2) * (l1 - chi1).cos() + (omega / 2.0).sin().powi(2) * (l1 + chi1).cos());
+    let cos_theta = phi.sin() * big_i.sin() * l.sin()
+        + phi.cos()
+            * ((big_i / 2.0).cos().powi(2) * (l - chi).cos()
+                + (big_i / 2.0).sin().powi(2) * (l + chi).cos());
+    let cos_phi1 = phi.sin() * omega.sin() * l1.sin()
+        + phi.cos()
+            * ((omega / 2.0).cos().powi(2) * (l1 - chi1).cos()
+                + (omega / 2.0).sin().powi(2) * (l1 + chi1).cos());
     // Distances.
     let ap = 1.0 / (c * (1.0 - e * e));
-    let inv_d = 1.0 / c + ap * e * (s - p).cos() + ap * e * e * (2.0 * (s - p)).cos() + 1.875 * ap * m * e * (s - 2.0 * h + p).cos() + ap * m * m * (2.0 * (s - h)).cos();
+    let inv_d = 1.0 / c
+        + ap * e * (s - p).cos()
+        + ap * e * e * (2.0 * (s - p)).cos()
+        + 1.875 * ap * m * e * (s - 2.0 * h + p).cos()
+        + ap * m * m * (2.0 * (s - h)).cos();
     let ap1 = 1.0 / (c1 * (1.0 - e1 * e1));
     let inv_d1 = 1.0 / c1 + ap1 * e1 * (h - p1).cos();
     // Distance of the station from the Earth's centre, cm.
     let cc = (1.0 / (1.0 + 0.006_738 * phi_geodetic.sin().powi(2))).sqrt();
     let r = cc * a + height_m * 100.0;
-    let g_moon = mu * m_moon * r * inv_d.powi(3) * (3.0 * cos_theta * cos_theta - 1.0) + 1.5 * mu * m_moon * r * r * inv_d.powi(4) * (5.0 * cos_theta.powi(3) - 3.0 * cos_theta);
+    let g_moon = mu * m_moon * r * inv_d.powi(3) * (3.0 * cos_theta * cos_theta - 1.0)
+        + 1.5 * mu * m_moon * r * r * inv_d.powi(4) * (5.0 * cos_theta.powi(3) - 3.0 * cos_theta);
     let g_sun = mu * m_sun * r * inv_d1.powi(3) * (3.0 * cos_phi1 * cos_phi1 - 1.0);
     g_moon + g_sun
 }
@@ -97,7 +112,13 @@ mod tests {
         let t0 = 1_767_225_600.0; // 2026-01-01 UTC
         let (mut lo, mut hi) = (f64::INFINITY, f64::NEG_INFINITY);
         for k in 0..(31 * 72) {
-            let g = tide_effect_mgal(t0 + k as f64 * 1200.0, 45.0, 10.0, 300.0, DEFAULT_GRAVIMETRIC_FACTOR);
+            let g = tide_effect_mgal(
+                t0 + k as f64 * 1200.0,
+                45.0,
+                10.0,
+                300.0,
+                DEFAULT_GRAVIMETRIC_FACTOR,
+            );
             lo = lo.min(g);
             hi = hi.max(g);
         }
