@@ -25,6 +25,11 @@ enum Command {
     /// Show how a delimited file will be read: delimiter, header, column roles
     /// and units, row and dummy counts, numeric ranges, line count.
     Inspect(commands::inspect::InspectArgs),
+    /// Print the main geomagnetic field (IGRF-14) at a point and date as CSV.
+    Igrf(commands::igrf::IgrfArgs),
+    /// Reduce gravity or magnetic readings to anomalies.
+    #[command(subcommand)]
+    Reduce(commands::reduce::ReduceCommand),
 }
 
 fn main() -> ExitCode {
@@ -32,6 +37,8 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Some(Command::Forward(args)) => commands::forward::run(&args),
         Some(Command::Inspect(args)) => commands::inspect::run(&args),
+        Some(Command::Igrf(args)) => commands::igrf::run(&args),
+        Some(Command::Reduce(cmd)) => commands::reduce::run(&cmd),
         None => commands::window::open(cli.project.as_deref()),
     };
     match result {

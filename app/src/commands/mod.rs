@@ -2,7 +2,9 @@
 //! `fieldstone-core` and its errors into one message for the user.
 
 pub mod forward;
+pub mod igrf;
 pub mod inspect;
+pub mod reduce;
 pub mod window;
 
 /// The cautions printed with the help and shown in the window.

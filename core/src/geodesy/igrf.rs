@@ -22,7 +22,7 @@ pub const IGRF14_TABLE: &str = include_str!("../../../assets/igrf14coeffs.txt");
 const A_REF_KM: f64 = 6371.2;
 /// WGS 84 semi-axes, km.
 const WGS84_A_KM: f64 = 6378.137;
-const WGS84_B_KM: f64 = 6356.752_314_2;
+const WGS84_B_KM: f64 = 6_356.752_314_2;
 
 /// The main field at a point, geodetic frame (geomagnetic convention).
 #[derive(Debug, Clone, Copy, PartialEq)]

@@ -27,7 +27,7 @@ pub struct NormalGravityModel {
 pub const GRS80_GRAVITY: NormalGravityModel = NormalGravityModel {
     name: "GRS80",
     a_m: 6_378_137.0,
-    b_m: 6_356_752.3141,
+    b_m: 6_356_752.314_1,
     e2: 0.006_694_380_022_90,
     gamma_e: 9.780_326_771_5,
     gamma_p: 9.832_186_368_5,
@@ -38,7 +38,7 @@ pub const GRS80_GRAVITY: NormalGravityModel = NormalGravityModel {
 pub const WGS84_GRAVITY: NormalGravityModel = NormalGravityModel {
     name: "WGS 84",
     a_m: 6_378_137.0,
-    b_m: 6_356_752.3142,
+    b_m: 6_356_752.314_2,
     e2: 0.006_694_379_990_14,
     gamma_e: 9.780_325_335_9,
     gamma_p: 9.832_184_937_8,
@@ -90,8 +90,8 @@ mod tests {
         // Moritz (2000), GRS80 series: γ = γ_e (1 + 0.005 279 0414 sin²φ
         // + 0.000 023 2718 sin⁴φ + 0.000 000 1262 sin⁶φ + 0.000 000 0007 sin⁸φ),
         // stated relative accuracy 10⁻¹⁰ (≈ 0.0001 mGal).
-        for lat in [-75.0, -45.0, -10.0, 5.0, 30.0, 51.5, 67.0, 89.0] {
-            let s2: f64 = (lat as f64).to_radians().sin().powi(2);
+        for lat in [-75.0_f64, -45.0, -10.0, 5.0, 30.0, 51.5, 67.0, 89.0] {
+            let s2: f64 = lat.to_radians().sin().powi(2);
             let series = 978_032.677_15
                 * (1.0
                     + 0.005_279_041_4 * s2

@@ -48,14 +48,23 @@ pub enum DriftError {
     Missing { row: usize },
 }
 
-/// Observed gravity and the drift correction (mGal, added: −rate·(t − t_b₀))
-/// at every row, and the loops.
+/// The result of a drift reduction.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DriftReduction {
+    /// Observed (absolute) gravity at every row, mGal.
+    pub gravity_mgal: Vec<f64>,
+    /// Drift correction at every row, mGal, added: −rate·(t − t_b₀).
+    pub correction_mgal: Vec<f64>,
+    pub loops: Vec<DriftLoop>,
+}
+
+/// Observed gravity and the drift correction at every row, and the loops.
 pub fn reduce_drift(
     times_s: &[f64],
     stations: &[String],
     readings_mgal: &[f64],
     s: &DriftSettings,
-) -> Result<(Vec<f64>, Vec<f64>, Vec<DriftLoop>), DriftError> {
+) -> Result<DriftReduction, DriftError> {
     let n = times_s.len();
     for r in 0..n {
         if !times_s[r].is_finite() || !readings_mgal[r].is_finite() {
@@ -103,7 +112,11 @@ pub fn reduce_drift(
             flagged: rate.abs() > s.max_rate_mgal_per_h,
         });
     }
-    Ok((g, corr, loops))
+    Ok(DriftReduction {
+        gravity_mgal: g,
+        correction_mgal: corr,
+        loops,
+    })
 }
 
 #[cfg(test)]
@@ -142,7 +155,11 @@ mod tests {
             base_value_mgal: base,
             max_rate_mgal_per_h: 0.015,
         };
-        let (g, _, loops) = reduce_drift(&times, &ids, &readings, &s).unwrap();
+        let DriftReduction {
+            gravity_mgal: g,
+            loops,
+            ..
+        } = reduce_drift(&times, &ids, &readings, &s).unwrap();
         for (k, (_, want)) in truth.iter().enumerate() {
             assert!(
                 (g[k] - (base + want)).abs() < 1e-9,

@@ -73,8 +73,7 @@ fn grid_sum(g: &Grid2, st: [f64; 3], s: &TerrainSettings, skip_inside: Option<&G
         let yc = g.y_of(j);
         let dy = yc - st[1];
         let row = &g.values[j * g.nx..(j + 1) * g.nx];
-        for i in i_lo..=i_hi.min(g.nx.saturating_sub(1)) {
-            let h = row[i];
+        for (i, &h) in row.iter().enumerate().take(i_hi + 1).skip(i_lo) {
             if !h.is_finite() {
                 continue;
             }

@@ -282,7 +282,8 @@ pub fn write_with_columns(
         }
         for v in extra(i) {
             if v.is_finite() {
-                rec.push_field(format!("{v}").as_bytes());
+                // + 0.0 turns −0 into 0.
+                rec.push_field(format!("{}", v + 0.0).as_bytes());
             } else {
                 rec.push_field(b"");
             }

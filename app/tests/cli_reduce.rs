@@ -1,0 +1,244 @@
+//! `fieldstone igrf` and `fieldstone reduce` end to end.
+
+use fieldstone_core::geodesy::igrf::{decimal_year_of_date, IgrfModel};
+use fieldstone_core::reduce::gravity::{reduce_station, GravitySettings};
+use std::path::PathBuf;
+use std::process::Command;
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("fieldstone-cli-red-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn column(text: &str, name: &str) -> Vec<f64> {
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let i = header
+        .iter()
+        .position(|h| *h == name)
+        .unwrap_or_else(|| panic!("no column {name} in {header:?}"));
+    lines
+        .map(|l| l.split(',').nth(i).unwrap().parse().unwrap())
+        .collect()
+}
+
+#[test]
+fn igrf_prints_the_library_value_as_csv() {
+    let o = bin()
+        .args([
+            "igrf",
+            "--lat",
+            "-33.5",
+            "--lon",
+            "151.2",
+            "--height-m",
+            "100",
+            "--date",
+            "2026-06-01",
+        ])
+        .output()
+        .unwrap();
+    assert!(o.status.success());
+    let s = String::from_utf8_lossy(&o.stdout);
+    let mut l = s.lines();
+    assert_eq!(
+        l.next().unwrap(),
+        "x_nt,y_nt,z_nt,h_nt,f_nt,inclination_deg,declination_deg"
+    );
+    let v: Vec<f64> = l
+        .next()
+        .unwrap()
+        .split(',')
+        .map(|x| x.parse().unwrap())
+        .collect();
+    let f = IgrfModel::igrf14()
+        .field(
+            -33.5,
+            151.2,
+            100.0,
+            decimal_year_of_date("2026-06-01").unwrap(),
+        )
+        .unwrap();
+    assert!((v[4] - f.f_nt).abs() < 1e-3 && (v[5] - f.inclination_deg).abs() < 1e-5);
+    let o = bin()
+        .args([
+            "igrf",
+            "--lat",
+            "10",
+            "--lon",
+            "0",
+            "--height-m",
+            "0",
+            "--date",
+            "2031-01-01",
+        ])
+        .output()
+        .unwrap();
+    assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("2030"));
+}
+
+#[test]
+fn reduce_gravity_writes_every_correction_and_matches_the_library() {
+    let d = scratch("grav");
+    std::fs::write(d.join("in.csv"), "station,lat,lon,height_m,gravity_mgal\nA,-33.5,151.2,50,979700.5\nB,-33.6,151.3,250.5,979650.25\n").unwrap();
+    let o = bin()
+        .arg("reduce")
+        .arg("gravity")
+        .arg("--in")
+        .arg(d.join("in.csv"))
+        .args(["--density", "2.67", "--out"])
+        .arg(d.join("out.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("2.67 g/cm³"));
+    let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
+    assert!(text.starts_with("station,lat,lon,height_m,gravity_mgal,normal_gravity_mgal,free_air_correction_mgal,atmospheric_correction_mgal,bouguer_slab_mgal,curvature_correction_mgal,terrain_correction_mgal,free_air_anomaly_mgal,bouguer_anomaly_mgal,complete_bouguer_anomaly_mgal\n"), "{text}");
+    let cba = column(&text, "complete_bouguer_anomaly_mgal");
+    let want = reduce_station(&GravitySettings::default(), 979_650.25, -33.6, 250.5, 0.0);
+    assert_eq!(cba[1], want.complete_bouguer_anomaly);
+    // Switched off corrections are zero in their columns.
+    let o = bin()
+        .arg("reduce")
+        .arg("gravity")
+        .arg("--in")
+        .arg(d.join("in.csv"))
+        .args([
+            "--density",
+            "2.67",
+            "--no-atmospheric",
+            "--no-curvature",
+            "--free-air",
+            "first-order",
+            "--out",
+        ])
+        .arg(d.join("out2.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success());
+    let text = std::fs::read_to_string(d.join("out2.csv")).unwrap();
+    assert_eq!(column(&text, "atmospheric_correction_mgal"), vec![0.0, 0.0]);
+    assert!((column(&text, "free_air_correction_mgal")[1] - 0.3086 * 250.5).abs() < 1e-9);
+}
+
+#[test]
+fn relative_readings_are_tied_to_the_base_through_drift_loops() {
+    let d = scratch("drift");
+    // No tide, drift +0.03 mGal/h; station S1 is 5.5 mGal below the base.
+    std::fs::write(d.join("in.csv"), "station,lat,lon,height_m,gravity_mgal,time\nB,-33.5,151.2,50,2000.000,08:00:00\nS1,-33.5,151.21,50,1994.515,08:30:00\nB,-33.5,151.2,50,2000.030,09:00:00\n").unwrap();
+    let o = bin()
+        .arg("reduce")
+        .arg("gravity")
+        .arg("--in")
+        .arg(d.join("in.csv"))
+        .args([
+            "--density",
+            "2.67",
+            "--base-value",
+            "979600.0",
+            "--base-station",
+            "B",
+            "--no-tide",
+            "--date",
+            "2026-03-01",
+            "--out",
+        ])
+        .arg(d.join("out.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
+    let g = column(&text, "observed_gravity_mgal");
+    assert!((g[1] - (979_600.0 - 5.5)).abs() < 1e-9, "{g:?}");
+    assert!(String::from_utf8_lossy(&o.stderr).contains("+0.0300 mGal/h"));
+}
+
+#[test]
+fn bad_reduction_input_is_refused_and_nothing_is_written() {
+    let d = scratch("bad");
+    let cases: [(&str, &str, &[&str], &str); 5] = [
+        ("noheight.csv", "lat,lon,gravity_mgal\n1,2,979000\n", &["gravity", "--density", "2.67"], "height_m"),
+        ("lat.csv", "lat,lon,height_m,gravity_mgal\n151,-33,10,979000\n", &["gravity", "--density", "2.67"], "swapped"),
+        ("order.csv", "station,lat,lon,height_m,gravity_mgal,time\nB,1,2,0,1,09:00\nS,1,2,0,1,08:00\nB,1,2,0,1,10:00\n", &["gravity", "--density", "2.67", "--base-value", "1", "--base-station", "B", "--date", "2026-01-01"], "time goes backwards"),
+        ("date.csv", "lat,lon,height_m,mag_nt\n1,2,0,50000\n", &["magnetic", "--date", "2035-01-01"], "2030"),
+        ("density.csv", "lat,lon,height_m,gravity_mgal\n1,2,0,979000\n", &["gravity", "--density", "2670"], "g/cm³"),
+    ];
+    for (file, text, args, want) in cases {
+        std::fs::write(d.join(file), text).unwrap();
+        let out = d.join(format!("{file}.out"));
+        let o = bin()
+            .arg("reduce")
+            .arg(args[0])
+            .arg("--in")
+            .arg(d.join(file))
+            .args(&args[1..])
+            .arg("--out")
+            .arg(&out)
+            .output()
+            .unwrap();
+        let e = String::from_utf8_lossy(&o.stderr);
+        assert!(!o.status.success() && e.contains(want), "{file}: {e}");
+        assert!(!out.exists(), "{file}: output written");
+    }
+}
+
+#[test]
+fn reduce_magnetic_removes_diurnal_and_main_field() {
+    let d = scratch("mag");
+    std::fs::write(d.join("in.csv"), "lat,lon,height_m,mag_nt,time\n-33.5,151.2,30,57000.0,10:00:30\n-33.5,151.201,30,57010.0,10:01:30\n").unwrap();
+    std::fs::write(
+        d.join("base.csv"),
+        "time,mag_nt\n10:00:00,56800\n10:01:00,56802\n10:02:00,56806\n",
+    )
+    .unwrap();
+    let o = bin()
+        .arg("reduce")
+        .arg("magnetic")
+        .arg("--in")
+        .arg(d.join("in.csv"))
+        .args(["--date", "2026-05-10", "--datum-nt", "56800", "--base"])
+        .arg(d.join("base.csv"))
+        .arg("--out")
+        .arg(d.join("out.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
+    assert_eq!(column(&text, "diurnal_nt"), vec![1.0, 4.0]);
+    let f = IgrfModel::igrf14()
+        .field(
+            -33.5,
+            151.2,
+            30.0,
+            decimal_year_of_date("2026-05-10").unwrap(),
+        )
+        .unwrap();
+    let tmi = column(&text, "tmi_anomaly_nt");
+    assert!((tmi[0] - (57_000.0 - 1.0 - f.f_nt)).abs() < 1e-6);
+    assert!(String::from_utf8_lossy(&o.stderr).contains("inducing field"));
+    // A base record that does not overlap the survey is refused.
+    std::fs::write(
+        d.join("late.csv"),
+        "time,mag_nt\n12:00:00,56800\n12:01:00,56802\n",
+    )
+    .unwrap();
+    let o = bin()
+        .arg("reduce")
+        .arg("magnetic")
+        .arg("--in")
+        .arg(d.join("in.csv"))
+        .args(["--date", "2026-05-10", "--base"])
+        .arg(d.join("late.csv"))
+        .arg("--out")
+        .arg(d.join("out3.csv"))
+        .output()
+        .unwrap();
+    assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("does not overlap"));
+    assert!(!d.join("out3.csv").exists());
+}
