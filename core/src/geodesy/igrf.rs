@@ -18,6 +18,9 @@ use thiserror::Error;
 /// The coefficient table, shipped in `assets/`.
 pub const IGRF14_TABLE: &str = include_str!("../../../assets/igrf14coeffs.txt");
 
+/// Highest degree the synthesis supports (IGRF-14 goes to 13).
+const MAX_DEGREE: usize = 13;
+
 /// Reference radius of the expansion, km.
 const A_REF_KM: f64 = 6371.2;
 /// WGS 84 semi-axes, km.
@@ -248,10 +251,11 @@ impl IgrfModel {
         st = st * cd + c_old * sd;
         // sin θ ≥ 0 for colatitudes in [0, π]; at the poles Y uses the limit.
         let st_safe = st.max(1e-10);
-        let nmax = self.n_max;
-        // Schmidt semi-normalised Pₙᵐ(cos θ) and dPₙᵐ/dθ.
-        let mut p = vec![vec![0.0; nmax + 1]; nmax + 1];
-        let mut dp = vec![vec![0.0; nmax + 1]; nmax + 1];
+        let nmax = self.n_max.min(MAX_DEGREE);
+        // Schmidt semi-normalised Pₙᵐ(cos θ) and dPₙᵐ/dθ, on the stack (no
+        // allocation per point).
+        let mut p = [[0.0f64; MAX_DEGREE + 1]; MAX_DEGREE + 1];
+        let mut dp = [[0.0f64; MAX_DEGREE + 1]; MAX_DEGREE + 1];
         p[0][0] = 1.0;
         for n in 1..=nmax {
             for m in 0..=n {
@@ -282,6 +286,14 @@ impl IgrfModel {
             }
         }
         let phi = lon_deg.to_radians();
+        // cos mφ and sin mφ by the angle-addition recurrence.
+        let mut cosm = [1.0f64; MAX_DEGREE + 1];
+        let mut sinm = [0.0f64; MAX_DEGREE + 1];
+        let (c1, s1) = (phi.cos(), phi.sin());
+        for m in 1..=nmax {
+            cosm[m] = cosm[m - 1] * c1 - sinm[m - 1] * s1;
+            sinm[m] = sinm[m - 1] * c1 + cosm[m - 1] * s1;
+        }
         let (mut x, mut y, mut z) = (0.0, 0.0, 0.0);
         let ratio = A_REF_KM / r;
         let mut rn = ratio * ratio; // (a/r)^(n+2) for n = 0
@@ -289,7 +301,7 @@ impl IgrfModel {
             rn *= ratio;
             for m in 0..=n {
                 let k = idx(n, m);
-                let (cm, sm) = ((m as f64 * phi).cos(), (m as f64 * phi).sin());
+                let (cm, sm) = (cosm[m], sinm[m]);
                 let gh = g[k] * cm + h[k] * sm;
                 x += rn * gh * dp[n][m];
                 y += rn * m as f64 * (g[k] * sm - h[k] * cm) * p[n][m] / st_safe;
