@@ -469,6 +469,13 @@ fn gravity(a: &GravityArgs) -> Result<(), String> {
         }
         v
     })?;
+    // Nettleton's density over the whole survey, as a check on --density.
+    let faa: Vec<f64> = red.iter().map(|r| r.free_air_anomaly).collect();
+    let per_density: Vec<f64> = (0..n).map(|k| (red[k].bouguer_slab - red[k].curvature_correction - red[k].terrain_correction) / a.density).collect();
+    match fieldstone_core::reduce::nettleton::nettleton(&faa, &per_density, &h, (1.8, 3.2), 0.05) {
+        Ok(r) => eprintln!("Nettleton density of least correlation with elevation over {} stations: {:.2} g/cm³ (a check, not a replacement for rock measurements)", r.n, r.density_g_cc),
+        Err(e) => eprintln!("Nettleton density not estimated: {e}"),
+    }
     eprintln!(
         "reduce gravity: {n} stations -> {} (reduction density {} g/cm³: density models from these anomalies are contrasts relative to it; heights as given in height_m — the standard expects ellipsoidal heights)",
         a.out.display(),
