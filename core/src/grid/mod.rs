@@ -8,6 +8,7 @@
 //! * [`xyz`]: gridded XYZ text.
 
 pub mod geotiff;
+pub mod mincurv;
 pub mod xyz;
 
 use serde::{Deserialize, Serialize};
