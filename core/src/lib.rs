@@ -3,6 +3,7 @@
 //! invariants they keep.
 
 pub mod drillhole;
+pub mod filter;
 pub mod forward;
 pub mod geodesy;
 pub mod grid;

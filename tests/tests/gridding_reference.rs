@@ -9,7 +9,12 @@ use fieldstone_core::grid::Grid2;
 use fieldstone_core::progress::Silent;
 use fieldstone_tests::G;
 
-fn lines(f: impl Fn(f64, f64) -> f64, line_spacing: f64, step: f64, extent: f64) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
+fn lines(
+    f: impl Fn(f64, f64) -> f64,
+    line_spacing: f64,
+    step: f64,
+    extent: f64,
+) -> (Vec<f64>, Vec<f64>, Vec<f64>) {
     let (mut x, mut y, mut v) = (vec![], vec![], vec![]);
     let mut yy = 0.0;
     while yy <= extent + 1e-9 {
@@ -31,14 +36,27 @@ fn planes_and_quadratics_sampled_on_lines_are_reproduced() {
     let cell = 25.0;
     let n = (extent / cell) as usize + 1;
     let template = Grid2::new_empty(0.0, 0.0, cell, cell, n, n).unwrap();
-    let s = MinCurvSettings { tension: 0.0, convergence: 1e-10, max_iterations: 200_000 };
+    let s = MinCurvSettings {
+        tension: 0.0,
+        convergence: 1e-10,
+        max_iterations: 200_000,
+    };
     for (name, f) in [
-        ("plane", Box::new(|x: f64, y: f64| 12.0 + 0.03 * x - 0.02 * y) as Box<dyn Fn(f64, f64) -> f64>),
-        ("quadratic", Box::new(|x: f64, y: f64| 5.0 + 2e-5 * (x - 900.0).powi(2) - 1e-5 * (y - 1100.0).powi(2) + 3e-6 * x * y)),
+        (
+            "plane",
+            Box::new(|x: f64, y: f64| 12.0 + 0.03 * x - 0.02 * y) as Box<dyn Fn(f64, f64) -> f64>,
+        ),
+        (
+            "quadratic",
+            Box::new(|x: f64, y: f64| {
+                5.0 + 2e-5 * (x - 900.0).powi(2) - 1e-5 * (y - 1100.0).powi(2) + 3e-6 * x * y
+            }),
+        ),
     ] {
         let (x, y, v) = lines(&f, 100.0, 25.0, extent);
         let g = min_curvature(&x, &y, &v, &template, &s, &Silent).unwrap();
-        let range = v.iter().copied().fold(f64::NEG_INFINITY, f64::max) - v.iter().copied().fold(f64::INFINITY, f64::min);
+        let range = v.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+            - v.iter().copied().fold(f64::INFINITY, f64::min);
         let mut worst: f64 = 0.0;
         // Nodes inside the data, away from the edges (where the natural
         // boundary conditions of the method bend any curved surface).
@@ -74,7 +92,11 @@ fn a_sphere_anomaly_on_lines_is_recovered_within_one_percent_of_its_peak() {
         }
     }
     let rms = (ss / k as f64).sqrt();
-    eprintln!("sphere: RMS error {:.3e} mGal = {:.3} % of the peak {peak:.3} mGal", rms, 100.0 * rms / peak);
+    eprintln!(
+        "sphere: RMS error {:.3e} mGal = {:.3} % of the peak {peak:.3} mGal",
+        rms,
+        100.0 * rms / peak
+    );
     assert!(rms < 0.01 * peak, "RMS {rms} vs peak {peak}");
     // Data that coincide with nodes are honoured.
     for (xx, yy) in [(1000.0, 1000.0), (500.0, 300.0), (1500.0, 1700.0)] {

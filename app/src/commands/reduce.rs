@@ -471,7 +471,12 @@ fn gravity(a: &GravityArgs) -> Result<(), String> {
     })?;
     // Nettleton's density over the whole survey, as a check on --density.
     let faa: Vec<f64> = red.iter().map(|r| r.free_air_anomaly).collect();
-    let per_density: Vec<f64> = (0..n).map(|k| (red[k].bouguer_slab - red[k].curvature_correction - red[k].terrain_correction) / a.density).collect();
+    let per_density: Vec<f64> = (0..n)
+        .map(|k| {
+            (red[k].bouguer_slab - red[k].curvature_correction - red[k].terrain_correction)
+                / a.density
+        })
+        .collect();
     match fieldstone_core::reduce::nettleton::nettleton(&faa, &per_density, &h, (1.8, 3.2), 0.05) {
         Ok(r) => eprintln!("Nettleton density of least correlation with elevation over {} stations: {:.2} g/cm³ (a check, not a replacement for rock measurements)", r.n, r.density_g_cc),
         Err(e) => eprintln!("Nettleton density not estimated: {e}"),

@@ -37,7 +37,11 @@ pub struct MinCurvSettings {
 
 impl Default for MinCurvSettings {
     fn default() -> Self {
-        MinCurvSettings { tension: 0.25, convergence: 1e-7, max_iterations: 20_000 }
+        MinCurvSettings {
+            tension: 0.25,
+            convergence: 1e-7,
+            max_iterations: 20_000,
+        }
     }
 }
 
@@ -59,7 +63,12 @@ pub enum GriddingError {
 
 /// Least-squares plane a + b·x + c·y through the data (coordinates relative
 /// to `origin` for conditioning). Err when the data are collinear.
-pub fn fit_plane(x: &[f64], y: &[f64], v: &[f64], origin: (f64, f64)) -> Result<[f64; 3], GriddingError> {
+pub fn fit_plane(
+    x: &[f64],
+    y: &[f64],
+    v: &[f64],
+    origin: (f64, f64),
+) -> Result<[f64; 3], GriddingError> {
     let mut m = [[0.0f64; 3]; 3];
     let mut r = [0.0f64; 3];
     for k in 0..x.len() {
@@ -85,19 +94,35 @@ pub fn fit_plane(x: &[f64], y: &[f64], v: &[f64], origin: (f64, f64)) -> Result<
 
 /// Grids scattered data (x, y, value) onto `template` (its origin, cell and
 /// size; the cell must be square). Returns the filled grid, unblanked.
-pub fn min_curvature(x: &[f64], y: &[f64], v: &[f64], template: &Grid2, s: &MinCurvSettings, obs: &dyn Observer) -> Result<Grid2, GriddingError> {
+pub fn min_curvature(
+    x: &[f64],
+    y: &[f64],
+    v: &[f64],
+    template: &Grid2,
+    s: &MinCurvSettings,
+    obs: &dyn Observer,
+) -> Result<Grid2, GriddingError> {
     if !(0.0..=1.0).contains(&s.tension) || !s.tension.is_finite() {
         return Err(GriddingError::Tension(s.tension));
     }
-    let keep: Vec<usize> = (0..x.len()).filter(|&k| x[k].is_finite() && y[k].is_finite() && v[k].is_finite()).collect();
+    let keep: Vec<usize> = (0..x.len())
+        .filter(|&k| x[k].is_finite() && y[k].is_finite() && v[k].is_finite())
+        .collect();
     if keep.len() < 3 {
         return Err(GriddingError::TooFew(keep.len()));
     }
-    let (xs, ys, vs): (Vec<f64>, Vec<f64>, Vec<f64>) = (keep.iter().map(|&k| x[k]).collect(), keep.iter().map(|&k| y[k]).collect(), keep.iter().map(|&k| v[k]).collect());
+    let (xs, ys, vs): (Vec<f64>, Vec<f64>, Vec<f64>) = (
+        keep.iter().map(|&k| x[k]).collect(),
+        keep.iter().map(|&k| y[k]).collect(),
+        keep.iter().map(|&k| v[k]).collect(),
+    );
     let origin = (template.x0, template.y0);
     let plane = fit_plane(&xs, &ys, &vs, origin)?;
-    let resid: Vec<f64> = (0..xs.len()).map(|k| vs[k] - plane[0] - plane[1] * (xs[k] - origin.0) - plane[2] * (ys[k] - origin.1)).collect();
-    let range = vs.iter().copied().fold(f64::NEG_INFINITY, f64::max) - vs.iter().copied().fold(f64::INFINITY, f64::min);
+    let resid: Vec<f64> = (0..xs.len())
+        .map(|k| vs[k] - plane[0] - plane[1] * (xs[k] - origin.0) - plane[2] * (ys[k] - origin.1))
+        .collect();
+    let range = vs.iter().copied().fold(f64::NEG_INFINITY, f64::max)
+        - vs.iter().copied().fold(f64::INFINITY, f64::min);
     let tol = s.convergence * range.max(1e-300);
     let (nx, ny) = (template.nx, template.ny);
     // Levels: strides 2^L down to 1 while the coarse grid keeps ≥ 4 nodes a side.
@@ -139,10 +164,16 @@ pub fn min_curvature(x: &[f64], y: &[f64], v: &[f64], template: &Grid2, s: &MinC
             for j in 0..lny {
                 for i in 0..lnx {
                     let (fi, fj) = (i as f64 / ratio as f64, j as f64 / ratio as f64);
-                    let (i0, j0) = ((fi.floor() as usize).min(pnx - 1), (fj.floor() as usize).min(pny - 1));
+                    let (i0, j0) = (
+                        (fi.floor() as usize).min(pnx - 1),
+                        (fj.floor() as usize).min(pny - 1),
+                    );
                     let (i1, j1) = ((i0 + 1).min(pnx - 1), (j0 + 1).min(pny - 1));
                     let (tx, ty) = (fi - i0 as f64, fj - j0 as f64);
-                    u[i + lnx * j] = (1.0 - tx) * (1.0 - ty) * pu[i0 + pnx * j0] + tx * (1.0 - ty) * pu[i1 + pnx * j0] + (1.0 - tx) * ty * pu[i0 + pnx * j1] + tx * ty * pu[i1 + pnx * j1];
+                    u[i + lnx * j] = (1.0 - tx) * (1.0 - ty) * pu[i0 + pnx * j0]
+                        + tx * (1.0 - ty) * pu[i1 + pnx * j0]
+                        + (1.0 - tx) * ty * pu[i0 + pnx * j1]
+                        + tx * ty * pu[i1 + pnx * j1];
                 }
             }
         }
@@ -159,14 +190,25 @@ pub fn min_curvature(x: &[f64], y: &[f64], v: &[f64], template: &Grid2, s: &MinC
     let mut g = template.clone();
     for j in 0..ny {
         for i in 0..nx {
-            g.values[i + nx * j] = u[i + nx * j] + plane[0] + plane[1] * (g.x_of(i) - origin.0) + plane[2] * (g.y_of(j) - origin.1);
+            g.values[i + nx * j] = u[i + nx * j]
+                + plane[0]
+                + plane[1] * (g.x_of(i) - origin.0)
+                + plane[2] * (g.y_of(j) - origin.1);
         }
     }
     Ok(g)
 }
 
 /// SOR sweeps on one level with ghost-node boundary conditions.
-fn relax(u: &mut [f64], fixed: &[Option<f64>], nx: usize, ny: usize, s: &MinCurvSettings, tol: f64, obs: &dyn Observer) -> Result<(), GriddingError> {
+fn relax(
+    u: &mut [f64],
+    fixed: &[Option<f64>],
+    nx: usize,
+    ny: usize,
+    s: &MinCurvSettings,
+    tol: f64,
+    obs: &dyn Observer,
+) -> Result<(), GriddingError> {
     let t = s.tension;
     let denom = 20.0 * (1.0 - t) + 4.0 * t;
     let omega = 1.4;
@@ -229,14 +271,30 @@ fn update_ghosts(w: &mut [f64], nx: usize, ny: usize, px: usize) {
     // Second ghosts: ∇²u(1) = ∇²u(−1) across each edge.
     for j in 0..nyi {
         let (jm, jp) = (j - 1, j + 1);
-        w[at(-2, j)] = w[at(2, j)] + w[at(1, jp)] + w[at(1, jm)] - 4.0 * w[at(1, j)] - w[at(-1, jp)] - w[at(-1, jm)] + 4.0 * w[at(-1, j)];
+        w[at(-2, j)] = w[at(2, j)] + w[at(1, jp)] + w[at(1, jm)]
+            - 4.0 * w[at(1, j)]
+            - w[at(-1, jp)]
+            - w[at(-1, jm)]
+            + 4.0 * w[at(-1, j)];
         let e = nxi - 1;
-        w[at(e + 2, j)] = w[at(e - 2, j)] + w[at(e - 1, jp)] + w[at(e - 1, jm)] - 4.0 * w[at(e - 1, j)] - w[at(e + 1, jp)] - w[at(e + 1, jm)] + 4.0 * w[at(e + 1, j)];
+        w[at(e + 2, j)] = w[at(e - 2, j)] + w[at(e - 1, jp)] + w[at(e - 1, jm)]
+            - 4.0 * w[at(e - 1, j)]
+            - w[at(e + 1, jp)]
+            - w[at(e + 1, jm)]
+            + 4.0 * w[at(e + 1, j)];
     }
     for i in 0..nxi {
         let (im, ip) = (i - 1, i + 1);
-        w[at(i, -2)] = w[at(i, 2)] + w[at(ip, 1)] + w[at(im, 1)] - 4.0 * w[at(i, 1)] - w[at(ip, -1)] - w[at(im, -1)] + 4.0 * w[at(i, -1)];
+        w[at(i, -2)] = w[at(i, 2)] + w[at(ip, 1)] + w[at(im, 1)]
+            - 4.0 * w[at(i, 1)]
+            - w[at(ip, -1)]
+            - w[at(im, -1)]
+            + 4.0 * w[at(i, -1)];
         let e = nyi - 1;
-        w[at(i, e + 2)] = w[at(i, e - 2)] + w[at(ip, e - 1)] + w[at(im, e - 1)] - 4.0 * w[at(i, e - 1)] - w[at(ip, e + 1)] - w[at(im, e + 1)] + 4.0 * w[at(i, e + 1)];
+        w[at(i, e + 2)] = w[at(i, e - 2)] + w[at(ip, e - 1)] + w[at(im, e - 1)]
+            - 4.0 * w[at(i, e - 1)]
+            - w[at(ip, e + 1)]
+            - w[at(im, e + 1)]
+            + 4.0 * w[at(i, e + 1)];
     }
 }

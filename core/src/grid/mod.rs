@@ -7,6 +7,8 @@
 //!   nodata tag) and write (Float32).
 //! * [`xyz`]: gridded XYZ text.
 
+pub mod biharmonic;
+pub mod blank;
 pub mod geotiff;
 pub mod mincurv;
 pub mod xyz;
