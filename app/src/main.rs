@@ -27,6 +27,10 @@ enum Command {
     Inspect(commands::inspect::InspectArgs),
     /// Print the main geomagnetic field (IGRF-14) at a point and date as CSV.
     Igrf(commands::igrf::IgrfArgs),
+    /// Grid scattered or line data (minimum curvature or biharmonic spline).
+    Grid(commands::grid::GridArgs),
+    /// Filter a grid: continuation, derivatives, reduction to the pole, band-pass, trend.
+    Filter(commands::filter::FilterArgs),
     /// Reduce gravity or magnetic readings to anomalies.
     #[command(subcommand)]
     Reduce(commands::reduce::ReduceCommand),
@@ -38,6 +42,8 @@ fn main() -> ExitCode {
         Some(Command::Forward(args)) => commands::forward::run(&args),
         Some(Command::Inspect(args)) => commands::inspect::run(&args),
         Some(Command::Igrf(args)) => commands::igrf::run(&args),
+        Some(Command::Grid(args)) => commands::grid::run(&args),
+        Some(Command::Filter(args)) => commands::filter::run(&args),
         Some(Command::Reduce(cmd)) => commands::reduce::run(&cmd),
         None => commands::window::open(cli.project.as_deref()),
     };

@@ -42,12 +42,12 @@ fn edt_1d(f: &[f64], out: &mut [f64], v: &mut [usize], z: &mut [f64]) {
         }
     }
     let mut k = 0;
-    for q in 0..n {
+    for (q, o) in out.iter_mut().enumerate().take(n) {
         while z[k + 1] < q as f64 {
             k += 1;
         }
         let p = v[k];
-        out[q] = if f[p].is_finite() {
+        *o = if f[p].is_finite() {
             (q as f64 - p as f64).powi(2) + f[p]
         } else {
             f64::INFINITY

@@ -17,9 +17,10 @@ use tiff::decoder::{Decoder, DecodingResult, Limits};
 use tiff::encoder::{colortype, TiffEncoder};
 use tiff::tags::Tag;
 
-/// Value written for nodata cells (the most negative f32), also stored in the
-/// GDAL_NODATA tag so GIS programs mask it.
-pub const NODATA_WRITTEN: f32 = f32::MIN;
+/// Value written for nodata cells, also stored in the GDAL_NODATA tag so GIS
+/// programs mask it (common practice sentinel; no potential-field, terrain or
+/// model grid holds it as a real value).
+pub const NODATA_WRITTEN: f32 = -99999.0;
 
 const TAG_GDAL_NODATA: u16 = 42113;
 const KEY_MODEL_TYPE: u16 = 1024;
@@ -199,8 +200,8 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
         let j = ny - 1 - r;
         for c in 0..nx {
             let v = data[c + nx * r];
-            let is_nodata = !v.is_finite()
-                || nodata.is_some_and(|nd| v == nd || (nd as f32 == v as f32 && nd.abs() > 1e30));
+            let is_nodata =
+                !v.is_finite() || nodata.is_some_and(|nd| v == nd || nd as f32 == v as f32);
             g.values[c + nx * j] = if is_nodata { f64::NAN } else { v };
         }
     }
@@ -255,7 +256,7 @@ pub fn write_geotiff(path: &Path, g: &Grid2) -> Result<(), GeoTiffError> {
         img.encoder()
             .write_tag(
                 Tag::Unknown(TAG_GDAL_NODATA),
-                &format!("{:e}", NODATA_WRITTEN as f64)[..],
+                &format!("{NODATA_WRITTEN}")[..],
             )
             .map_err(werr)?;
         let mut data = vec![0f32; g.nx * g.ny];

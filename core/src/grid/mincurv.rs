@@ -21,6 +21,7 @@
 
 use super::{Grid2, GridError};
 use crate::progress::Observer;
+use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
 
@@ -221,25 +222,52 @@ fn relax(
             w[at(i, j)] = u[i + nx * j];
         }
     }
+    // Nodes are swept in nine colours, (i mod 3, j mod 3): the 13-point
+    // stencil of a node never reaches another node of its colour, so all
+    // nodes of one colour can be updated at once, rows in parallel.
+    let fixed_mask: Vec<bool> = fixed.iter().map(|f| f.is_some()).collect();
     for iter in 0..s.max_iterations {
-        if iter % 64 == 0 && obs.cancelled() {
+        if iter % 16 == 0 && obs.cancelled() {
             return Err(GriddingError::Cancelled);
         }
         update_ghosts(&mut w, nx, ny, px);
         let mut max_change: f64 = 0.0;
-        for j in 0..ny {
-            for i in 0..nx {
-                if fixed[i + nx * j].is_some() {
-                    continue;
-                }
-                let c = at(i, j);
-                let s1 = w[c - 1] + w[c + 1] + w[c - px] + w[c + px];
-                let s2 = w[c - 1 - px] + w[c + 1 - px] + w[c - 1 + px] + w[c + 1 + px];
-                let s3 = w[c - 2] + w[c + 2] + w[c - 2 * px] + w[c + 2 * px];
-                let target = ((1.0 - t) * (8.0 * s1 - 2.0 * s2 - s3) + t * s1) / denom;
-                let d = omega * (target - w[c]);
-                w[c] += d;
-                max_change = max_change.max(d.abs());
+        for cj in 0..3 {
+            for ci in 0..3 {
+                let ptr = SharedRows(w.as_mut_ptr());
+                let rows: Vec<usize> = (cj..ny).step_by(3).collect();
+                let change = rows
+                    .par_iter()
+                    .map(|&j| {
+                        let ptr = &ptr;
+                        let mut local: f64 = 0.0;
+                        for i in (ci..nx).step_by(3) {
+                            if fixed_mask[i + nx * j] {
+                                continue;
+                            }
+                            let c = (i + 2) + px * (j + 2);
+                            // SAFETY: within one colour pass every thread
+                            // writes only nodes of its own row of this colour
+                            // and reads only nodes of other colours, which no
+                            // thread writes during the pass.
+                            unsafe {
+                                let r = |o: isize| *ptr.0.offset(c as isize + o);
+                                let (p1, p2) = (px as isize, 2 * px as isize);
+                                let s1 = r(-1) + r(1) + r(-p1) + r(p1);
+                                let s2 = r(-1 - p1) + r(1 - p1) + r(-1 + p1) + r(1 + p1);
+                                let s3 = r(-2) + r(2) + r(-p2) + r(p2);
+                                let target =
+                                    ((1.0 - t) * (8.0 * s1 - 2.0 * s2 - s3) + t * s1) / denom;
+                                let cell = ptr.0.add(c);
+                                let d = omega * (target - *cell);
+                                *cell += d;
+                                local = local.max(d.abs());
+                            }
+                        }
+                        local
+                    })
+                    .reduce(|| 0.0, f64::max);
+                max_change = max_change.max(change);
             }
         }
         if max_change <= tol {
@@ -253,6 +281,12 @@ fn relax(
     }
     Ok(())
 }
+
+/// A raw pointer to the working grid, shared by the threads of one colour pass.
+struct SharedRows(*mut f64);
+// SAFETY: see the colour-pass invariant in `relax`.
+unsafe impl Sync for SharedRows {}
+unsafe impl Send for SharedRows {}
 
 /// Ghost nodes from Briggs's edge conditions: u₋₁ = 2u₀ − u₁ (no curvature
 /// across the edge) and u₋₂ from a zero normal gradient of the Laplacian.

@@ -63,6 +63,12 @@ pub enum GridError {
     },
     #[error("grid spacing must be positive and finite, got dx = {dx}, dy = {dy}")]
     BadSpacing { dx: f64, dy: f64 },
+    #[error("the grids are in different coordinate references (EPSG:{a} and EPSG:{b}); regrid one first")]
+    Reference { a: u32, b: u32 },
+    #[error(
+        "the grids do not share origin, cell size and dimensions; regrid one onto the other first"
+    )]
+    Lattice,
 }
 
 impl Grid2 {
@@ -165,6 +171,36 @@ impl Grid2 {
         } else {
             Err(GridError::NoData { x, y })
         }
+    }
+
+    /// True when `other` has the same lattice (origin, cell, size) and reference.
+    pub fn same_lattice(&self, other: &Grid2) -> bool {
+        let close = |a: f64, b: f64| (a - b).abs() <= 1e-9 * a.abs().max(b.abs()).max(1.0);
+        self.nx == other.nx
+            && self.ny == other.ny
+            && close(self.x0, other.x0)
+            && close(self.y0, other.y0)
+            && close(self.dx, other.dx)
+            && close(self.dy, other.dy)
+    }
+
+    /// `self − other` node by node, after checking that both grids share a
+    /// lattice and a coordinate reference.
+    pub fn minus(&self, other: &Grid2) -> Result<Grid2, GridError> {
+        if let (Some(a), Some(b)) = (self.epsg, other.epsg) {
+            if a != b {
+                return Err(GridError::Reference { a, b });
+            }
+        }
+        if !self.same_lattice(other) {
+            return Err(GridError::Lattice);
+        }
+        let mut out = self.clone();
+        for (o, v) in out.values.iter_mut().zip(&other.values) {
+            *o -= v;
+        }
+        out.note = format!("{} minus {}", self.note, other.note);
+        Ok(out)
     }
 
     /// Number of nodes with data.

@@ -267,10 +267,20 @@ pub struct Spacing {
 
 /// Spacing summary from line geometry.
 pub fn spacing(s: &Survey) -> Spacing {
+    spacing_of(&s.x, &s.y, &s.lines)
+}
+
+/// Spacing summary of points grouped into lines.
+pub fn spacing_of(x: &[f64], y: &[f64], lines: &[SurveyLine]) -> Spacing {
+    struct Xy<'a> {
+        x: &'a [f64],
+        y: &'a [f64],
+    }
+    let s = Xy { x, y };
     let mut steps = Vec::new();
     let mut dirs = (0.0, 0.0);
     let mut centroids = Vec::new();
-    for l in &s.lines {
+    for l in lines {
         let pos: Vec<usize> = l
             .rows
             .iter()
