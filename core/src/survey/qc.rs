@@ -146,6 +146,15 @@ pub fn detect_spikes(
     found
 }
 
+/// Rows of a line that have a position, in line order.
+fn positioned_rows(l: &SurveyLine, x: &[f64], y: &[f64]) -> Vec<usize> {
+    l.rows
+        .iter()
+        .map(|&r| r as usize)
+        .filter(|&r| x[r].is_finite() && y[r].is_finite())
+        .collect()
+}
+
 /// Statistics of one channel on one line.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LineStats {
@@ -185,12 +194,7 @@ pub fn line_stats(s: &Survey, values: &[f64], flags: &ChannelFlags) -> Vec<LineS
             } else {
                 f64::NAN
             };
-            let pos: Vec<usize> = l
-                .rows
-                .iter()
-                .map(|&r| r as usize)
-                .filter(|&r| s.x[r].is_finite() && s.y[r].is_finite())
-                .collect();
+            let pos = positioned_rows(l, &s.x, &s.y);
             let mut steps: Vec<f64> = pos
                 .windows(2)
                 .map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]]))
@@ -272,30 +276,20 @@ pub fn spacing(s: &Survey) -> Spacing {
 
 /// Spacing summary of points grouped into lines.
 pub fn spacing_of(x: &[f64], y: &[f64], lines: &[SurveyLine]) -> Spacing {
-    struct Xy<'a> {
-        x: &'a [f64],
-        y: &'a [f64],
-    }
-    let s = Xy { x, y };
     let mut steps = Vec::new();
     let mut dirs = (0.0, 0.0);
     let mut centroids = Vec::new();
     for l in lines {
-        let pos: Vec<usize> = l
-            .rows
-            .iter()
-            .map(|&r| r as usize)
-            .filter(|&r| s.x[r].is_finite() && s.y[r].is_finite())
-            .collect();
+        let pos = positioned_rows(l, x, y);
         if pos.len() < 2 {
             continue;
         }
         steps.extend(
             pos.windows(2)
-                .map(|w| (s.x[w[1]] - s.x[w[0]]).hypot(s.y[w[1]] - s.y[w[0]])),
+                .map(|w| (x[w[1]] - x[w[0]]).hypot(y[w[1]] - y[w[0]])),
         );
         let (a, b) = (pos[0], pos[pos.len() - 1]);
-        let (dx, dy) = (s.x[b] - s.x[a], s.y[b] - s.y[a]);
+        let (dx, dy) = (x[b] - x[a], y[b] - y[a]);
         // Double the angle so that opposite flight directions add up.
         let th = dy.atan2(dx);
         let len = dx.hypot(dy);
@@ -303,8 +297,8 @@ pub fn spacing_of(x: &[f64], y: &[f64], lines: &[SurveyLine]) -> Spacing {
         dirs.1 += len * (2.0 * th).sin();
         let n = pos.len() as f64;
         centroids.push((
-            pos.iter().map(|&r| s.x[r]).sum::<f64>() / n,
-            pos.iter().map(|&r| s.y[r]).sum::<f64>() / n,
+            pos.iter().map(|&r| x[r]).sum::<f64>() / n,
+            pos.iter().map(|&r| y[r]).sum::<f64>() / n,
         ));
     }
     let th = 0.5 * dirs.1.atan2(dirs.0);
