@@ -8,6 +8,7 @@ pub mod forward;
 pub mod geodesy;
 pub mod grid;
 pub mod io;
+pub mod mesh;
 pub mod physics;
 pub mod progress;
 pub mod reduce;
