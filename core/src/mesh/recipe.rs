@@ -240,7 +240,7 @@ pub fn default_recipe(
 
 /// Rounds to 1, 2, 2.5 or 5 times a power of ten.
 fn nice(v: f64) -> f64 {
-    if !(v > 0.0) {
+    if v.is_nan() || v <= 0.0 {
         return 1.0;
     }
     let p = 10f64.powf(v.log10().floor());
