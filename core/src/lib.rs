@@ -2,6 +2,7 @@
 //! GUI dependency. See ARCHITECTURE.md for the map of modules and the
 //! invariants they keep.
 
+pub mod constraint;
 pub mod drillhole;
 pub mod filter;
 pub mod forward;
