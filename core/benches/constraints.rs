@@ -3,7 +3,9 @@
 //!
 //! `cargo bench -p fieldstone-core --bench constraints`
 
-use fieldstone_core::constraint::build::{build, Assignments, Contact, ContactAlong, Defaults, Layer};
+use fieldstone_core::constraint::build::{
+    build, Assignments, Contact, ContactAlong, Defaults, Layer,
+};
 use fieldstone_core::constraint::region::{Inputs, Level, Region};
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::grid::Grid2;
@@ -18,7 +20,11 @@ fn sphere(c: [f64; 3], r: f64, n: usize) -> Wireframe {
         let th = std::f64::consts::PI * a as f64 / n as f64;
         for b in 0..n {
             let ph = 2.0 * std::f64::consts::PI * b as f64 / n as f64;
-            v.push([c[0] + r * th.sin() * ph.cos(), c[1] + r * th.sin() * ph.sin(), c[2] + r * th.cos()]);
+            v.push([
+                c[0] + r * th.sin() * ph.cos(),
+                c[1] + r * th.sin() * ph.sin(),
+                c[2] + r * th.cos(),
+            ]);
         }
     }
     v.push([c[0], c[1], c[2] - r]);
@@ -35,7 +41,11 @@ fn sphere(c: [f64; 3], r: f64, n: usize) -> Wireframe {
             t.push([ring(a, b), ring(a + 1, b + 1), ring(a, b + 1)]);
         }
     }
-    Wireframe { name: "body".into(), vertices: v, triangles: t }
+    Wireframe {
+        name: "body".into(),
+        vertices: v,
+        triangles: t,
+    }
 }
 
 fn main() {
@@ -59,22 +69,66 @@ fn main() {
     let mut base = dem.clone();
     base.values.iter_mut().for_each(|v| *v -= 30.0);
     let wf = sphere([500.0, 500.0, -200.0], 180.0, 224);
-    println!("mesh {} cells, wireframe {} triangles", mesh.n_cells(), wf.triangles.len());
+    println!(
+        "mesh {} cells, wireframe {} triangles",
+        mesh.n_cells(),
+        wf.triangles.len()
+    );
     let mut inputs = Inputs::default();
     inputs.surfaces.insert("base of cover".into(), base);
     inputs.wireframes.insert("body".into(), wf);
     let t0 = Instant::now();
     let act = active_cells(&mesh, Some(&dem), true, true).unwrap();
     let mut layers = vec![
-        Layer { name: "positive".into(), enabled: true, region: Region::Whole, assign: Assignments { lower: Some(0.0), upper: Some(0.2), ..Default::default() } },
-        Layer { name: "cover".into(), enabled: true, region: Region::AboveSurface { surface: "base of cover".into() }, assign: Assignments { upper: Some(0.001), reference: Some(0.0), reference_weight: Some(10.0), ..Default::default() } },
+        Layer {
+            name: "positive".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                lower: Some(0.0),
+                upper: Some(0.2),
+                ..Default::default()
+            },
+        },
+        Layer {
+            name: "cover".into(),
+            enabled: true,
+            region: Region::AboveSurface {
+                surface: "base of cover".into(),
+            },
+            assign: Assignments {
+                upper: Some(0.001),
+                reference: Some(0.0),
+                reference_weight: Some(10.0),
+                ..Default::default()
+            },
+        },
         Layer {
             name: "contact".into(),
             enabled: true,
             region: Region::Whole,
-            assign: Assignments { sharp_contact: Some(Contact { factor: 0.05, along: ContactAlong::Surface { name: "base of cover".into() } }), ..Default::default() },
+            assign: Assignments {
+                sharp_contact: Some(Contact {
+                    factor: 0.05,
+                    along: ContactAlong::Surface {
+                        name: "base of cover".into(),
+                    },
+                }),
+                ..Default::default()
+            },
         },
-        Layer { name: "intrusive".into(), enabled: true, region: Region::Wireframe { name: "body".into() }, assign: Assignments { reference: Some(0.05), reference_weight: Some(5.0), ..Default::default() } },
+        Layer {
+            name: "intrusive".into(),
+            enabled: true,
+            region: Region::Wireframe {
+                name: "body".into(),
+            },
+            assign: Assignments {
+                reference: Some(0.05),
+                reference_weight: Some(5.0),
+                ..Default::default()
+            },
+        },
     ];
     for k in 0..16 {
         let x0 = 50.0 * k as f64;
@@ -82,15 +136,40 @@ fn main() {
             name: format!("block {k}"),
             enabled: true,
             region: if k % 2 == 0 {
-                Region::Box { x: [x0, x0 + 100.0], y: [100.0, 900.0], z: [-500.0, 0.0] }
+                Region::Box {
+                    x: [x0, x0 + 100.0],
+                    y: [100.0, 900.0],
+                    z: [-500.0, 0.0],
+                }
             } else {
-                Region::Polygon { vertices: vec![[x0, 0.0], [x0 + 80.0, 0.0], [x0 + 40.0, 800.0]], top: Level::Elevation { z_m: 100.0 }, bottom: Level::Surface { name: "base of cover".into(), offset_m: -400.0 } }
+                Region::Polygon {
+                    vertices: vec![[x0, 0.0], [x0 + 80.0, 0.0], [x0 + 40.0, 800.0]],
+                    top: Level::Elevation { z_m: 100.0 },
+                    bottom: Level::Surface {
+                        name: "base of cover".into(),
+                        offset_m: -400.0,
+                    },
+                }
             },
-            assign: Assignments { smoothness: Some([1.0, 2.0, 0.5]), reference: Some(0.01 * k as f64), ..Default::default() },
+            assign: Assignments {
+                smoothness: Some([1.0, 2.0, 0.5]),
+                reference: Some(0.01 * k as f64),
+                ..Default::default()
+            },
         });
     }
     let (a, warnings) = build(&mesh, &act, &layers, Defaults::susceptibility(), &inputs).unwrap();
     let secs = t0.elapsed().as_secs_f64();
-    println!("{:<60} {:>8.2} s", format!("active cells + {} layers -> all arrays", layers.len()), secs);
-    println!("  active {} of {}, {} warnings, {} cells referenced inside the wireframe", act.count(), mesh.n_cells(), warnings.len(), a.reference.iter().filter(|v| **v == 0.05).count());
+    println!(
+        "{:<60} {:>8.2} s",
+        format!("active cells + {} layers -> all arrays", layers.len()),
+        secs
+    );
+    println!(
+        "  active {} of {}, {} warnings, {} cells referenced inside the wireframe",
+        act.count(),
+        mesh.n_cells(),
+        warnings.len(),
+        a.reference.iter().filter(|v| **v == 0.05).count()
+    );
 }

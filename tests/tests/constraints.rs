@@ -229,7 +229,14 @@ fn inconsistent_layers_are_refused_and_starting_values_clipped() {
             ..Default::default()
         },
     );
-    let (_, warn) = build(&m, &act, std::slice::from_ref(&l1), Defaults::density(), &inputs).unwrap();
+    let (_, warn) = build(
+        &m,
+        &act,
+        std::slice::from_ref(&l1),
+        Defaults::density(),
+        &inputs,
+    )
+    .unwrap();
     assert!(warn[0].contains("800 starting values"), "{warn:?}");
     let l2 = layer(
         "contradiction",

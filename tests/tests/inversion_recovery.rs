@@ -1,0 +1,390 @@
+//! Synthetic recovery tests of the constrained inversion. Each builds a small
+//! gravity problem with a known block, noise of known standard deviation and
+//! uncertainties equal to it, so the target φ_d = N is the expected misfit.
+
+use fieldstone_core::constraint::build::{
+    build, Assignments, ConstraintArrays, Contact, ContactAlong, Defaults, Layer,
+};
+use fieldstone_core::constraint::region::{Inputs, Region};
+use fieldstone_core::grid::Grid2;
+use fieldstone_core::invert::solver::{invert, InversionError, Problem, RunResult};
+use fieldstone_core::invert::InversionSettings;
+use fieldstone_core::mesh::recipe::{MeshRecipe, Padding};
+use fieldstone_core::mesh::topo::active_cells;
+use fieldstone_core::mesh::TensorMesh;
+use fieldstone_core::operator::dense::{DenseOperator, Survey};
+use fieldstone_core::operator::Operator;
+use fieldstone_core::progress::Silent;
+
+const SIGMA: f64 = 0.002; // mGal
+
+struct Case {
+    mesh: TensorMesh,
+    op: DenseOperator,
+    active: Vec<usize>,
+    truth: Vec<f64>,
+    data: Vec<f64>,
+}
+
+fn case() -> Case {
+    let mesh = MeshRecipe {
+        cell_xy_m: [25.0, 25.0],
+        cell_z_m: 25.0,
+        z_growth: 1.0,
+        x_range_m: [0.0, 400.0],
+        y_range_m: [0.0, 400.0],
+        top_m: 0.0,
+        depth_m: 200.0,
+        padding: Padding::Uniform { cells: 0 },
+        bottom_padding_cells: 0,
+        bottom_padding_factor: 1.0,
+    }
+    .build()
+    .unwrap();
+    let active: Vec<usize> = (0..mesh.n_cells()).collect();
+    let stations: Vec<[f64; 3]> = (0..256)
+        .map(|s| {
+            [
+                12.5 + 25.0 * (s % 16) as f64,
+                12.5 + 25.0 * (s / 16) as f64,
+                1.0,
+            ]
+        })
+        .collect();
+    let op =
+        DenseOperator::build(&mesh, &active, &stations, Survey::Gravity, 1 << 30, &Silent).unwrap();
+    // Block 0.3 g/cm³: columns 6–9 × 6–9, layers 4–5 (50–100 m deep).
+    let [nx, ny, _] = mesh.shape();
+    let truth: Vec<f64> = (0..mesh.n_cells())
+        .map(|c| {
+            let (i, j, k) = (c % nx, (c / nx) % ny, c / (nx * ny));
+            if (6..10).contains(&i) && (6..10).contains(&j) && (4..6).contains(&k) {
+                0.3
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    let mut clean = vec![0.0; 256];
+    op.apply(&truth, &mut clean);
+    // Deterministic Gaussian noise (Box–Muller on an LCG).
+    let mut seed = 2024u64;
+    let mut uni = || {
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        ((seed >> 11) as f64 + 0.5) / (1u64 << 53) as f64
+    };
+    let data = clean
+        .iter()
+        .map(|d| {
+            d + SIGMA * (-2.0 * uni().ln()).sqrt() * (2.0 * std::f64::consts::PI * uni()).cos()
+        })
+        .collect();
+    Case {
+        mesh,
+        op,
+        active,
+        truth,
+        data,
+    }
+}
+
+fn constraints(c: &Case, layers: &[Layer]) -> ConstraintArrays {
+    let act = active_cells(&c.mesh, None, false, false).unwrap();
+    build(
+        &c.mesh,
+        &act,
+        layers,
+        Defaults::density(),
+        &Inputs::default(),
+    )
+    .unwrap()
+    .0
+}
+
+fn run(c: &Case, k: &ConstraintArrays, s: &InversionSettings) -> RunResult {
+    let unc = vec![SIGMA; c.data.len()];
+    let pb = Problem {
+        mesh: &c.mesh,
+        constraints: k,
+        active: &c.active,
+        data: &c.data,
+        uncertainty: &unc,
+        reference_elevation_m: 1.0,
+    };
+    invert(&c.op, &pb, s, &Silent).unwrap()
+}
+
+fn within_target(r: &RunResult) -> bool {
+    (r.summary.phi_d - r.summary.target_phi_d).abs() <= 0.02 * r.summary.target_phi_d
+}
+
+#[test]
+fn a_block_is_recovered_where_it_is_at_the_target_misfit() {
+    let c = case();
+    let k = constraints(&c, &[]);
+    let r = run(&c, &k, &InversionSettings::default());
+    assert!(within_target(&r), "{:?}", r.summary);
+    // Centroid of the positive anomaly within one cell laterally of the block centre (200, 200).
+    let [nx, ny, _] = c.mesh.shape();
+    let (mut sx, mut sy, mut sw) = (0.0, 0.0, 0.0);
+    let max = r.model.iter().copied().fold(0.0, f64::max);
+    for (cell, &v) in r.model.iter().enumerate() {
+        if v > 0.5 * max {
+            let p = c.mesh.centre(cell % nx, (cell / nx) % ny, cell / (nx * ny));
+            sx += v * p[0];
+            sy += v * p[1];
+            sw += v;
+        }
+    }
+    let (cx, cy) = (sx / sw, sy / sw);
+    assert!(
+        (cx - 200.0).abs() <= 25.0 && (cy - 200.0).abs() <= 25.0,
+        "centroid ({cx}, {cy})"
+    );
+    assert_eq!(r.summary.operator, "dense");
+    assert!(
+        r.log.len() >= 2
+            && r.log
+                .windows(2)
+                .all(|w| w[1].beta <= w[0].beta * 1.0001 || w[1].phi_d <= w[0].phi_d * 1.5)
+    );
+    let _ = &c.truth;
+}
+
+#[test]
+fn bounds_hold_for_every_cell() {
+    let c = case();
+    let k = constraints(
+        &c,
+        &[Layer {
+            name: "positive".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                lower: Some(0.0),
+                upper: Some(0.25),
+                ..Default::default()
+            },
+        }],
+    );
+    let r = run(&c, &k, &InversionSettings::default());
+    assert!(
+        r.model.iter().all(|v| (0.0..=0.25).contains(v)),
+        "min {} max {}",
+        r.summary.model_min,
+        r.summary.model_max
+    );
+    assert!(within_target(&r), "{:?}", r.summary);
+    assert!(r.summary.cells_at_lower_bound > 0);
+}
+
+#[test]
+fn a_trusted_reference_is_honoured_and_a_guess_is_not() {
+    let c = case();
+    // The top two layers referenced to 0.1 (a wrong guess; the truth is 0).
+    let region = Region::Box {
+        x: [0.0, 400.0],
+        y: [0.0, 400.0],
+        z: [-50.0, 0.0],
+    };
+    let layer = |w: f64| Layer {
+        name: "cover".into(),
+        enabled: true,
+        region: region.clone(),
+        assign: Assignments {
+            reference: Some(0.1),
+            reference_weight: Some(w),
+            ..Default::default()
+        },
+    };
+    let s = InversionSettings {
+        alpha_s: 1e-3,
+        ..Default::default()
+    };
+    let [nx, ny, nz] = c.mesh.shape();
+    let top: Vec<usize> = (0..c.mesh.n_cells())
+        .filter(|&cell| cell / (nx * ny) >= nz - 2)
+        .collect();
+    let strong = run(&c, &constraints(&c, &[layer(1e6)]), &s);
+    let worst = top
+        .iter()
+        .map(|&cell| (strong.model[cell] - 0.1).abs() / 0.1)
+        .fold(0.0, f64::max);
+    assert!(worst <= 0.05, "trusted reference departed by {worst}");
+    let weak = run(&c, &constraints(&c, &[layer(1e-3)]), &s);
+    let mean = top.iter().map(|&cell| weak.model[cell]).sum::<f64>() / top.len() as f64;
+    assert!(
+        (mean - 0.1).abs() > 0.05,
+        "a weakly weighted reference should not hold the model: mean {mean}"
+    );
+}
+
+#[test]
+fn a_sharp_contact_allows_a_larger_vertical_jump() {
+    let c = case();
+    let mut base = Grid2::new_empty(-100.0, -100.0, 50.0, 50.0, 14, 14).unwrap();
+    base.values.iter_mut().for_each(|v| *v = -50.0);
+    let mut inputs = Inputs::default();
+    inputs.surfaces.insert("contact".into(), base);
+    let act = active_cells(&c.mesh, None, false, false).unwrap();
+    let sharp = Layer {
+        name: "contact".into(),
+        enabled: true,
+        region: Region::Whole,
+        assign: Assignments {
+            sharp_contact: Some(Contact {
+                factor: 1e-3,
+                along: ContactAlong::Surface {
+                    name: "contact".into(),
+                },
+            }),
+            ..Default::default()
+        },
+    };
+    let k_sharp = build(&c.mesh, &act, &[sharp], Defaults::density(), &inputs)
+        .unwrap()
+        .0;
+    let k_smooth = constraints(&c, &[]);
+    let s = InversionSettings::default();
+    let (a, b) = (run(&c, &k_sharp, &s), run(&c, &k_smooth, &s));
+    assert!(within_target(&a) && within_target(&b));
+    // Mean |m(below) − m(above)| across the contact (between layers 5 and 6, z = −50).
+    let [nx, ny, _] = c.mesh.shape();
+    let jump = |m: &[f64]| {
+        (0..nx * ny)
+            .map(|col| (m[col + nx * ny * 5] - m[col + nx * ny * 6]).abs())
+            .sum::<f64>()
+            / (nx * ny) as f64
+    };
+    assert!(
+        jump(&a.model) > 1.5 * jump(&b.model),
+        "sharp {} vs smooth {}",
+        jump(&a.model),
+        jump(&b.model)
+    );
+}
+
+#[test]
+fn focusing_makes_a_more_compact_model_at_the_same_misfit() {
+    let c = case();
+    let k = constraints(
+        &c,
+        &[Layer {
+            name: "positive".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                lower: Some(0.0),
+                upper: Some(0.5),
+                ..Default::default()
+            },
+        }],
+    );
+    let l2 = run(&c, &k, &InversionSettings::default());
+    let focused = run(
+        &c,
+        &k,
+        &InversionSettings {
+            norms: [0.0, 2.0, 2.0, 2.0],
+            alpha_s: 1e-2,
+            ..Default::default()
+        },
+    );
+    assert!(
+        within_target(&l2) && within_target(&focused),
+        "{:?} / {:?}",
+        l2.summary,
+        focused.summary
+    );
+    let compact = |m: &[f64]| {
+        let max = m.iter().copied().fold(0.0, f64::max);
+        m.iter().filter(|v| **v > 0.5 * max).count()
+    };
+    assert!(
+        compact(&focused.model) < compact(&l2.model),
+        "focused {} vs L2 {}",
+        compact(&focused.model),
+        compact(&l2.model)
+    );
+    assert!(focused.log.iter().any(|r| r.epsilon.is_some()));
+}
+
+#[test]
+fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
+    let c = case();
+    let held = Layer {
+        name: "held".into(),
+        enabled: true,
+        region: Region::Box {
+            x: [0.0, 100.0],
+            y: [0.0, 100.0],
+            z: [-200.0, 0.0],
+        },
+        assign: Assignments {
+            starting: Some(0.05),
+            fixed: true,
+            ..Default::default()
+        },
+    };
+    let k = constraints(&c, &[held]);
+    let r = run(&c, &k, &InversionSettings::default());
+    for (cell, v) in r.model.iter().enumerate() {
+        if k.fixed[cell] {
+            assert_eq!(*v, 0.05);
+        }
+    }
+    let unc0 = vec![0.0; c.data.len()];
+    let pb = Problem {
+        mesh: &c.mesh,
+        constraints: &k,
+        active: &c.active,
+        data: &c.data,
+        uncertainty: &unc0,
+        reference_elevation_m: 1.0,
+    };
+    assert!(matches!(
+        invert(&c.op, &pb, &InversionSettings::default(), &Silent),
+        Err(InversionError::Uncertainty { index: 0, .. })
+    ));
+    let all = constraints(
+        &c,
+        &[Layer {
+            name: "all".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                fixed: true,
+                ..Default::default()
+            },
+        }],
+    );
+    let unc = vec![SIGMA; c.data.len()];
+    let pb = Problem {
+        mesh: &c.mesh,
+        constraints: &all,
+        active: &c.active,
+        data: &c.data,
+        uncertainty: &unc,
+        reference_elevation_m: 1.0,
+    };
+    assert!(invert(&c.op, &pb, &InversionSettings::default(), &Silent)
+        .unwrap_err()
+        .to_string()
+        .contains("fixed"));
+    let mut nan = c.data.clone();
+    nan[3] = f64::NAN;
+    let pb = Problem {
+        mesh: &c.mesh,
+        constraints: &k,
+        active: &c.active,
+        data: &nan,
+        uncertainty: &unc,
+        reference_elevation_m: 1.0,
+    };
+    assert!(matches!(
+        invert(&c.op, &pb, &InversionSettings::default(), &Silent),
+        Err(InversionError::Data { index: 3 })
+    ));
+}
