@@ -65,8 +65,8 @@ impl Default for InversionSettings {
             beta0_ratio: 10.0,
             cooling: 2.0,
             max_beta_iterations: 30,
-            max_cg: 60,
-            cg_tolerance: 1e-4,
+            max_cg: 40,
+            cg_tolerance: 1e-3,
             norms: [2.0, 2.0, 2.0, 2.0],
             max_irls_iterations: 15,
         }

@@ -124,7 +124,7 @@ impl<O: Operator> Setup<'_, O> {
         let mut g = vec![0.0; n];
         let mut cg_total = 0;
         let mut tmp_d = vec![0.0; nd];
-        for _outer in 0..8 {
+        for _outer in 0..4 {
             self.op.apply(m, &mut pred);
             self.gradient(m, &pred, beta, &mut g);
             let free: Vec<bool> = (0..n)
