@@ -77,6 +77,18 @@ impl ModelObjective {
         }
     }
 
+    /// The diagonal of the Hessian of φ_m, added to `out` times `scale`.
+    pub fn add_hessian_diagonal(&self, scale: f64, out: &mut [f64]) {
+        for j in 0..out.len() {
+            out[j] += scale * 2.0 * self.ws2[j] * self.r_s[j];
+        }
+        for (f, r) in self.faces.iter().zip(&self.r_f) {
+            let c = scale * 2.0 * f.w2 * r * f.inv_h * f.inv_h;
+            out[f.b as usize] += c;
+            out[f.a as usize] += c;
+        }
+    }
+
     /// Hessian of φ_m times v (the objective is quadratic), added to `out`
     /// times `scale`.
     pub fn add_hessian(&self, v: &[f64], scale: f64, out: &mut [f64]) {

@@ -61,6 +61,8 @@ fn dot(a: &[f64], b: &[f64]) -> f64 {
 
 struct Setup<'a, O: Operator> {
     op: &'a O,
+    /// diag(Gᵀ W_d² G), for the Jacobi preconditioner.
+    data_diag: Vec<f64>,
     d: Vec<f64>,
     wd2: Vec<f64>,
     lower: Vec<f64>,
@@ -133,7 +135,14 @@ impl<O: Operator> Setup<'_, O> {
                     !(l == u || (m[j] <= l && g[j] > 0.0) || (m[j] >= u && g[j] < 0.0))
                 })
                 .collect();
-            // CG on H p = −g over the free cells.
+            // Jacobi-preconditioned CG on H p = −g over the free cells.
+            let mut diag: Vec<f64> = self.data_diag.iter().map(|v| 2.0 * v).collect();
+            self.obj.add_hessian_diagonal(beta, &mut diag);
+            let inv_diag: Vec<f64> = diag
+                .iter()
+                .zip(&free)
+                .map(|(d, f)| if *f && *d > 0.0 { 1.0 / d } else { 0.0 })
+                .collect();
             let mut r: Vec<f64> = g
                 .iter()
                 .zip(&free)
@@ -143,10 +152,11 @@ impl<O: Operator> Setup<'_, O> {
             if r0 == 0.0 {
                 break;
             }
-            let mut p = r.clone();
+            let mut z: Vec<f64> = r.iter().zip(&inv_diag).map(|(a, b)| a * b).collect();
+            let mut p = z.clone();
             let mut x = vec![0.0; n];
             let mut hp = vec![0.0; n];
-            let mut rr = r0 * r0;
+            let mut rz = dot(&r, &z);
             for _ in 0..s.max_cg {
                 if obs.cancelled() {
                     return Err(InversionError::Cancelled);
@@ -156,20 +166,23 @@ impl<O: Operator> Setup<'_, O> {
                 if php <= 0.0 {
                     break;
                 }
-                let a = rr / php;
+                let a = rz / php;
                 for j in 0..n {
                     x[j] += a * p[j];
                     r[j] -= a * hp[j];
                 }
                 cg_total += 1;
-                let rr_new = dot(&r, &r);
-                if rr_new.sqrt() <= s.cg_tolerance * r0 {
+                if dot(&r, &r).sqrt() <= s.cg_tolerance * r0 {
                     break;
                 }
-                let bta = rr_new / rr;
-                rr = rr_new;
                 for j in 0..n {
-                    p[j] = r[j] + bta * p[j];
+                    z[j] = r[j] * inv_diag[j];
+                }
+                let rz_new = dot(&r, &z);
+                let bta = rz_new / rz;
+                rz = rz_new;
+                for j in 0..n {
+                    p[j] = z[j] + bta * p[j];
                 }
             }
             // Projected step with backtracking on the objective.
@@ -367,8 +380,17 @@ pub fn invert<O: Operator>(
         r_s: vec![1.0; n],
         r_f: vec![1.0; nf],
     };
+    // diag(Gᵀ W_d² G) = Σᵢ wᵢ Gᵢⱼ²; exact for uniform uncertainties, the mean
+    // weight otherwise (it only preconditions).
+    let mean_wd2 = pb.uncertainty.iter().map(|u| 1.0 / (u * u)).sum::<f64>() / nd as f64;
+    let data_diag: Vec<f64> = op
+        .column_norms_sq()
+        .into_iter()
+        .map(|v| v * mean_wd2)
+        .collect();
     let setup = Setup {
         op,
+        data_diag,
         d: pb.data.to_vec(),
         wd2: pb.uncertainty.iter().map(|u| 1.0 / (u * u)).collect(),
         lower,
