@@ -4,6 +4,7 @@
 
 pub mod constraint;
 pub mod drillhole;
+pub mod export;
 pub mod filter;
 pub mod forward;
 pub mod geodesy;
