@@ -15,6 +15,7 @@ pub mod mesh;
 pub mod operator;
 pub mod physics;
 pub mod progress;
+pub mod project;
 pub mod reduce;
 pub mod survey;
 pub mod table;

@@ -1,0 +1,244 @@
+//! `project.json`: every step's parameters as plain data, saved atomically.
+
+use super::provenance::StepRecord;
+use crate::constraint::build::Layer;
+use crate::filter::regional::RegionalMethod;
+use crate::invert::InversionSettings;
+use crate::io::atomic::{write_atomically, WriteError};
+use crate::mesh::recipe::MeshRecipe;
+use crate::physics::magnetic::InducingField;
+use crate::reduce::gravity::GravitySettings;
+use crate::survey::import::ImportSpec;
+use serde::{Deserialize, Serialize};
+use std::path::{Path, PathBuf};
+use thiserror::Error;
+
+/// The schema this program writes.
+pub const SCHEMA_VERSION: u32 = 1;
+/// The file name inside a project folder.
+pub const PROJECT_FILE: &str = "project.json";
+
+/// One imported file.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ImportStep {
+    pub name: String,
+    /// Relative to the project folder.
+    pub file: String,
+    pub spec: ImportSpec,
+}
+
+/// A named set of constraint layers and inversion settings on the same data
+/// and mesh.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Scenario {
+    pub name: String,
+    pub layers: Vec<Layer>,
+    pub settings: InversionSettings,
+}
+
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct ProjectFile {
+    pub schema_version: u32,
+    pub name: String,
+    pub epsg: Option<u32>,
+    /// Background density that density contrasts are relative to (the
+    /// reduction density), g/cm³.
+    pub background_density_g_cc: f64,
+    pub inducing_field: Option<InducingField>,
+    #[serde(default)]
+    pub imports: Vec<ImportStep>,
+    pub gravity_reduction: Option<GravitySettings>,
+    pub regional: Option<RegionalMethod>,
+    pub mesh: Option<MeshRecipe>,
+    #[serde(default)]
+    pub scenarios: Vec<Scenario>,
+    #[serde(default)]
+    pub provenance: Vec<StepRecord>,
+}
+
+#[derive(Debug, Error)]
+pub enum ProjectError {
+    #[error("cannot read {file}: {source}")]
+    Read {
+        file: PathBuf,
+        source: std::io::Error,
+    },
+    #[error("{file}: at {path} (line {line}, column {column}): {message}")]
+    Syntax {
+        file: PathBuf,
+        path: String,
+        line: usize,
+        column: usize,
+        message: String,
+    },
+    #[error("{file} has no schema_version; it is not a Fieldstone project file")]
+    NoVersion { file: PathBuf },
+    #[error(transparent)]
+    Write(#[from] WriteError),
+}
+
+/// A loaded project and whether it may be saved.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Loaded {
+    pub project: ProjectFile,
+    /// Set when the file was written by a newer program: it opens read-only.
+    pub read_only_because: Option<String>,
+}
+
+impl ProjectFile {
+    pub fn new(name: &str) -> ProjectFile {
+        ProjectFile {
+            schema_version: SCHEMA_VERSION,
+            name: name.to_string(),
+            epsg: None,
+            background_density_g_cc: 2.67,
+            inducing_field: None,
+            imports: vec![],
+            gravity_reduction: None,
+            regional: None,
+            mesh: None,
+            scenarios: vec![],
+            provenance: vec![],
+        }
+    }
+
+    /// Saves `project.json` in `dir` atomically (temporary file, flush, rename).
+    pub fn save(&self, dir: &Path) -> Result<(), ProjectError> {
+        let path = dir.join(PROJECT_FILE);
+        let text = serde_json::to_string_pretty(self).map_err(|e| WriteError {
+            path: path.clone(),
+            source: std::io::Error::other(e),
+        })?;
+        write_atomically::<ProjectError>(&path, |w| {
+            w.write_all(text.as_bytes()).map_err(|source| {
+                WriteError {
+                    path: path.clone(),
+                    source,
+                }
+                .into()
+            })
+        })
+    }
+
+    /// Loads `project.json` from `dir`, migrating older schemas; a newer
+    /// schema is read as far as this program understands it, read-only.
+    pub fn load(dir: &Path) -> Result<Loaded, ProjectError> {
+        let path = dir.join(PROJECT_FILE);
+        let bytes = std::fs::read(&path).map_err(|source| ProjectError::Read {
+            file: path.clone(),
+            source,
+        })?;
+        let value: serde_json::Value = serde_json::from_slice(crate::io::text::strip_bom(&bytes))
+            .map_err(|e| ProjectError::Syntax {
+            file: path.clone(),
+            path: ".".into(),
+            line: e.line(),
+            column: e.column(),
+            message: e.to_string(),
+        })?;
+        let version = value
+            .get("schema_version")
+            .and_then(|v| v.as_u64())
+            .ok_or(ProjectError::NoVersion { file: path.clone() })? as u32;
+        let read_only_because = (version > SCHEMA_VERSION).then(|| format!("{} was written with schema version {version}, newer than this program's {SCHEMA_VERSION}; it opens read-only so nothing it holds is lost", path.display()));
+        let value = migrate(value, version);
+        let text = value.to_string();
+        let mut de = serde_json::Deserializer::from_str(&text);
+        let project: ProjectFile = serde_path_to_error::deserialize(&mut de).map_err(|e| {
+            let p = e.path().to_string();
+            let inner = e.into_inner();
+            ProjectError::Syntax {
+                file: path.clone(),
+                path: p,
+                line: inner.line(),
+                column: inner.column(),
+                message: inner.to_string(),
+            }
+        })?;
+        Ok(Loaded {
+            project,
+            read_only_because,
+        })
+    }
+}
+
+/// Migrations from earlier schemas. Version 1 is the first; later versions
+/// add their steps here, each taking the JSON of the version before.
+fn migrate(value: serde_json::Value, _from: u32) -> serde_json::Value {
+    value
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn dir(name: &str) -> PathBuf {
+        let d =
+            std::env::temp_dir().join(format!("fieldstone-project-{name}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&d);
+        std::fs::create_dir_all(&d).unwrap();
+        d
+    }
+
+    #[test]
+    fn save_and_load_round_trip_every_step() {
+        let d = dir("rt");
+        let mut p = ProjectFile::new("Tarn Hollow (invented)");
+        p.epsg = Some(32755);
+        p.gravity_reduction = Some(GravitySettings::default());
+        p.mesh =
+            Some(crate::mesh::recipe::default_recipe([0.0, 1000.0], [0.0, 800.0], 25.0, 300.0).0);
+        p.scenarios.push(Scenario {
+            name: "smooth".into(),
+            layers: vec![],
+            settings: InversionSettings::default(),
+        });
+        p.save(&d).unwrap();
+        let l = ProjectFile::load(&d).unwrap();
+        assert_eq!(l.project, p);
+        assert!(l.read_only_because.is_none());
+    }
+
+    #[test]
+    fn newer_files_open_read_only_and_broken_files_say_where() {
+        let d = dir("newer");
+        let mut v = serde_json::to_value(ProjectFile::new("x")).unwrap();
+        v["schema_version"] = serde_json::json!(SCHEMA_VERSION + 1);
+        std::fs::write(d.join(PROJECT_FILE), v.to_string()).unwrap();
+        let l = ProjectFile::load(&d).unwrap();
+        assert!(l.read_only_because.unwrap().contains("read-only"));
+        std::fs::write(d.join(PROJECT_FILE), "{\"schema_version\": 1, \"name\": 5}").unwrap();
+        let e = ProjectFile::load(&d).unwrap_err().to_string();
+        assert!(e.contains("name"), "{e}");
+        std::fs::write(d.join(PROJECT_FILE), "{\"name\": \"x\"}").unwrap();
+        assert!(matches!(
+            ProjectFile::load(&d),
+            Err(ProjectError::NoVersion { .. })
+        ));
+    }
+
+    #[test]
+    fn a_failed_save_leaves_the_previous_project_intact() {
+        let d = dir("fail");
+        let p = ProjectFile::new("first");
+        p.save(&d).unwrap();
+        // Make the folder read-only so the temporary file cannot be created
+        // (root ignores permissions, so only check when the write really fails).
+        let mut perm = std::fs::metadata(&d).unwrap().permissions();
+        perm.set_readonly(true);
+        std::fs::set_permissions(&d, perm.clone()).unwrap();
+        let r = ProjectFile::new("second").save(&d);
+        perm.set_readonly(false);
+        std::fs::set_permissions(&d, perm).unwrap();
+        let l = ProjectFile::load(&d).unwrap();
+        match r {
+            Err(_) => assert_eq!(l.project.name, "first"),
+            Ok(()) => assert_eq!(l.project.name, "second"),
+        }
+        assert_eq!(
+            std::fs::read_dir(&d).unwrap().count(),
+            1,
+            "no temporary file left"
+        );
+    }
+}
