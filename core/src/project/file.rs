@@ -224,12 +224,12 @@ mod tests {
         p.save(&d).unwrap();
         // Make the folder read-only so the temporary file cannot be created
         // (root ignores permissions, so only check when the write really fails).
-        let mut perm = std::fs::metadata(&d).unwrap().permissions();
-        perm.set_readonly(true);
-        std::fs::set_permissions(&d, perm.clone()).unwrap();
+        let original = std::fs::metadata(&d).unwrap().permissions();
+        let mut ro = original.clone();
+        ro.set_readonly(true);
+        std::fs::set_permissions(&d, ro).unwrap();
         let r = ProjectFile::new("second").save(&d);
-        perm.set_readonly(false);
-        std::fs::set_permissions(&d, perm).unwrap();
+        std::fs::set_permissions(&d, original).unwrap();
         let l = ProjectFile::load(&d).unwrap();
         match r {
             Err(_) => assert_eq!(l.project.name, "first"),

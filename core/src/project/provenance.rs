@@ -40,6 +40,9 @@ pub struct StepRecord {
     pub finished: String,
 }
 
+/// A step's current inputs and parameters: (step, [(input, hash)], parameters hash).
+pub type CurrentStep = (String, Vec<(String, String)>, String);
+
 /// The state of a step.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
@@ -52,10 +55,7 @@ pub enum StepState {
 /// States of every step: a step is stale when its current inputs or
 /// parameters differ from its record, or when any earlier step is stale or
 /// not done; not started when it has no record.
-pub fn staleness(
-    records: &[StepRecord],
-    current: &[(String, Vec<(String, String)>, String)],
-) -> Vec<(String, StepState)> {
+pub fn staleness(records: &[StepRecord], current: &[CurrentStep]) -> Vec<(String, StepState)> {
     let mut out = Vec::new();
     let mut upstream_changed = false;
     for step in STEPS {
@@ -97,7 +97,7 @@ mod tests {
     #[test]
     fn a_changed_step_makes_it_and_everything_after_stale_and_nothing_before() {
         let records: Vec<StepRecord> = STEPS.iter().map(|s| rec(s, &hash_json(&s.len()))).collect();
-        let mut current: Vec<(String, Vec<(String, String)>, String)> = STEPS
+        let mut current: Vec<CurrentStep> = STEPS
             .iter()
             .map(|s| (s.to_string(), vec![], hash_json(&s.len())))
             .collect();
