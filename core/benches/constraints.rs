@@ -9,7 +9,7 @@ use fieldstone_core::constraint::build::{
 use fieldstone_core::constraint::region::{Inputs, Level, Region};
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::grid::Grid2;
-use fieldstone_core::mesh::recipe::{MeshRecipe, Padding};
+use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
 use std::time::Instant;
 
@@ -49,18 +49,7 @@ fn sphere(c: [f64; 3], r: f64, n: usize) -> Wireframe {
 }
 
 fn main() {
-    let recipe = MeshRecipe {
-        cell_xy_m: [10.0, 10.0],
-        cell_z_m: 10.0,
-        z_growth: 1.0,
-        x_range_m: [0.0, 1000.0],
-        y_range_m: [0.0, 1000.0],
-        top_m: 300.0,
-        depth_m: 1000.0,
-        padding: Padding::Uniform { cells: 0 },
-        bottom_padding_cells: 0,
-        bottom_padding_factor: 1.0,
-    };
+    let recipe = MeshRecipe::uniform(10.0, 10.0, [0.0, 1000.0], [0.0, 1000.0], 300.0, 1000.0);
     let mesh = recipe.build().unwrap();
     let mut dem = Grid2::new_empty(-50.0, -50.0, 25.0, 25.0, 45, 45).unwrap();
     for (k, v) in dem.values.iter_mut().enumerate() {

@@ -7,7 +7,7 @@ use fieldstone_core::constraint::build::{build, Assignments, Defaults, Layer};
 use fieldstone_core::constraint::region::{Inputs, Region};
 use fieldstone_core::invert::solver::{invert, Problem};
 use fieldstone_core::invert::InversionSettings;
-use fieldstone_core::mesh::recipe::{MeshRecipe, Padding};
+use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
 use fieldstone_core::operator::dense::{DenseOperator, Survey};
 use fieldstone_core::operator::Operator;
@@ -33,18 +33,14 @@ fn main() {
     };
     for (n_side, nz, st_side) in cases {
         let cell = 20.0;
-        let mesh = MeshRecipe {
-            cell_xy_m: [cell, cell],
-            cell_z_m: cell,
-            z_growth: 1.0,
-            x_range_m: [0.0, cell * n_side as f64],
-            y_range_m: [0.0, cell * n_side as f64],
-            top_m: 0.0,
-            depth_m: cell * nz as f64,
-            padding: Padding::Uniform { cells: 0 },
-            bottom_padding_cells: 0,
-            bottom_padding_factor: 1.0,
-        }
+        let mesh = MeshRecipe::uniform(
+            cell,
+            cell,
+            [0.0, cell * n_side as f64],
+            [0.0, cell * n_side as f64],
+            0.0,
+            cell * nz as f64,
+        )
         .build()
         .unwrap();
         let active: Vec<usize> = (0..mesh.n_cells()).collect();

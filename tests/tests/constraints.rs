@@ -8,27 +8,16 @@ use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::constraint::ConstraintError;
 use fieldstone_core::drillhole::{Hole, HoleSet, Interval, SurveyStation};
 use fieldstone_core::grid::Grid2;
-use fieldstone_core::mesh::recipe::{MeshRecipe, Padding};
+use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
 use fieldstone_core::mesh::TensorMesh;
 use std::path::Path;
 
 /// 10 × 8 × 10 cells of 10 m; top at 100 m, bottom at 0 m.
 fn mesh() -> TensorMesh {
-    MeshRecipe {
-        cell_xy_m: [10.0, 10.0],
-        cell_z_m: 10.0,
-        z_growth: 1.0,
-        x_range_m: [0.0, 100.0],
-        y_range_m: [0.0, 80.0],
-        top_m: 100.0,
-        depth_m: 100.0,
-        padding: Padding::Uniform { cells: 0 },
-        bottom_padding_cells: 0,
-        bottom_padding_factor: 1.0,
-    }
-    .build()
-    .unwrap()
+    MeshRecipe::uniform(10.0, 10.0, [0.0, 100.0], [0.0, 80.0], 100.0, 100.0)
+        .build()
+        .unwrap()
 }
 
 fn layer(name: &str, region: Region, assign: Assignments) -> Layer {

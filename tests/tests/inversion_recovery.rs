@@ -9,7 +9,7 @@ use fieldstone_core::constraint::region::{Inputs, Region};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::solver::{invert, InversionError, Problem, RunResult};
 use fieldstone_core::invert::InversionSettings;
-use fieldstone_core::mesh::recipe::{MeshRecipe, Padding};
+use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
 use fieldstone_core::mesh::TensorMesh;
 use fieldstone_core::operator::dense::{DenseOperator, Survey};
@@ -27,20 +27,9 @@ struct Case {
 }
 
 fn case() -> Case {
-    let mesh = MeshRecipe {
-        cell_xy_m: [25.0, 25.0],
-        cell_z_m: 25.0,
-        z_growth: 1.0,
-        x_range_m: [0.0, 400.0],
-        y_range_m: [0.0, 400.0],
-        top_m: 0.0,
-        depth_m: 200.0,
-        padding: Padding::Uniform { cells: 0 },
-        bottom_padding_cells: 0,
-        bottom_padding_factor: 1.0,
-    }
-    .build()
-    .unwrap();
+    let mesh = MeshRecipe::uniform(25.0, 25.0, [0.0, 400.0], [0.0, 400.0], 0.0, 200.0)
+        .build()
+        .unwrap();
     let active: Vec<usize> = (0..mesh.n_cells()).collect();
     let stations: Vec<[f64; 3]> = (0..256)
         .map(|s| {

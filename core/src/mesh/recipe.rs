@@ -59,6 +59,30 @@ pub enum MeshError {
 pub const MAX_CELLS: usize = 50_000_000;
 
 impl MeshRecipe {
+    /// A recipe of uniform cells without padding (tests, benchmarks and
+    /// quick looks): horizontal cell `cell_xy_m`, layers of `cell_z_m`.
+    pub fn uniform(
+        cell_xy_m: f64,
+        cell_z_m: f64,
+        x_range_m: [f64; 2],
+        y_range_m: [f64; 2],
+        top_m: f64,
+        depth_m: f64,
+    ) -> MeshRecipe {
+        MeshRecipe {
+            cell_xy_m: [cell_xy_m, cell_xy_m],
+            cell_z_m,
+            z_growth: 1.0,
+            x_range_m,
+            y_range_m,
+            top_m,
+            depth_m,
+            padding: Padding::Uniform { cells: 0 },
+            bottom_padding_cells: 0,
+            bottom_padding_factor: 1.0,
+        }
+    }
+
     fn check(&self) -> Result<(), MeshError> {
         for (field, v) in [
             ("cell_xy_m[0]", self.cell_xy_m[0]),

@@ -96,22 +96,11 @@ pub fn active_cells(
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::mesh::recipe::{MeshRecipe, Padding};
+    use crate::mesh::recipe::MeshRecipe;
 
     #[test]
     fn a_tilted_plane_gives_the_analytic_volume_within_one_cell_per_column() {
-        let r = MeshRecipe {
-            cell_xy_m: [20.0, 20.0],
-            cell_z_m: 5.0,
-            z_growth: 1.0,
-            x_range_m: [0.0, 400.0],
-            y_range_m: [0.0, 300.0],
-            top_m: 200.0,
-            depth_m: 150.0,
-            padding: Padding::Uniform { cells: 0 },
-            bottom_padding_cells: 0,
-            bottom_padding_factor: 1.0,
-        };
+        let r = MeshRecipe::uniform(20.0, 5.0, [0.0, 400.0], [0.0, 300.0], 200.0, 150.0);
         let m = r.build().unwrap();
         let h = |x: f64, y: f64| 120.0 + 0.1 * x - 0.05 * y;
         let mut dem = Grid2::new_empty(-10.0, -10.0, 5.0, 5.0, 90, 70).unwrap();
