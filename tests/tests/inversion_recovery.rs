@@ -377,3 +377,46 @@ fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
         Err(InversionError::Data { index: 3 })
     ));
 }
+
+#[test]
+fn dense_and_fft_runs_give_the_same_model() {
+    use fieldstone_core::operator::fft::FftOperator;
+    let c = case();
+    let k = constraints(
+        &c,
+        &[Layer {
+            name: "positive".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                lower: Some(0.0),
+                ..Default::default()
+            },
+        }],
+    );
+    let dense = run(&c, &k, &InversionSettings::default());
+    let fft =
+        FftOperator::build(&c.mesh, &c.active, 1.0, &vec![true; 256], Survey::Gravity).unwrap();
+    let unc = vec![SIGMA; c.data.len()];
+    let pb = Problem {
+        mesh: &c.mesh,
+        constraints: &k,
+        active: &c.active,
+        data: &c.data,
+        uncertainty: &unc,
+        reference_elevation_m: 1.0,
+    };
+    let f = invert(&fft, &pb, &InversionSettings::default(), &Silent).unwrap();
+    assert_eq!(f.summary.operator, "fft");
+    let scale = dense.model.iter().fold(0.0f64, |a, v| a.max(v.abs()));
+    let diff = dense
+        .model
+        .iter()
+        .zip(&f.model)
+        .map(|(a, b)| (a - b).abs())
+        .fold(0.0, f64::max);
+    assert!(
+        diff <= 1e-3 * scale,
+        "models differ by {diff} (scale {scale})"
+    );
+}

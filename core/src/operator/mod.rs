@@ -6,6 +6,7 @@
 //! `physics::tensor` (corner terms shared between adjacent cells).
 
 pub mod dense;
+pub mod fft;
 
 /// A linear forward operator on the active cells of a mesh.
 pub trait Operator: Sync {
