@@ -19,35 +19,91 @@ use std::time::Instant;
 fn fft_case() {
     use fieldstone_core::operator::fft::FftOperator;
     let cell = 20.0;
-    let mesh = MeshRecipe::uniform(cell, cell, [0.0, 1000.0], [0.0, 1000.0], 0.0, 800.0).build().unwrap();
+    let mesh = MeshRecipe::uniform(cell, cell, [0.0, 1000.0], [0.0, 1000.0], 0.0, 800.0)
+        .build()
+        .unwrap();
     let active: Vec<usize> = (0..mesh.n_cells()).collect();
     let [nx, ny, nz] = mesh.shape();
     let t = Instant::now();
-    let op = FftOperator::build(&mesh, &active, 1.0, &vec![true; nx * ny], Survey::Gravity).unwrap();
+    let op =
+        FftOperator::build(&mesh, &active, 1.0, &vec![true; nx * ny], Survey::Gravity).unwrap();
     let build_s = t.elapsed().as_secs_f64();
     let truth: Vec<f64> = (0..mesh.n_cells())
         .map(|c| {
             let (i, j, k) = (c % nx, (c / nx) % ny, c / (nx * ny));
-            if (18..26).contains(&i) && (20..30).contains(&j) && (24..32).contains(&k) { 0.25 } else { 0.0 }
+            if (18..26).contains(&i) && (20..30).contains(&j) && (24..32).contains(&k) {
+                0.25
+            } else {
+                0.0
+            }
         })
         .collect();
     let mut data = vec![0.0; op.n_data()];
     op.apply(&truth, &mut data);
     let mut seed = 5u64;
     for d in &mut data {
-        seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         *d += 0.002 * (((seed >> 11) as f64 / (1u64 << 53) as f64) - 0.5) * 3.46;
     }
     let act = active_cells(&mesh, None, false, false).unwrap();
     let layers = [
-        Layer { name: "bounds".into(), enabled: true, region: Region::Whole, assign: Assignments { lower: Some(0.0), upper: Some(0.5), ..Default::default() } },
-        Layer { name: "reference".into(), enabled: true, region: Region::Box { x: [0.0, 1000.0], y: [0.0, 1000.0], z: [-60.0, 0.0] }, assign: Assignments { reference: Some(0.0), reference_weight: Some(100.0), ..Default::default() } },
+        Layer {
+            name: "bounds".into(),
+            enabled: true,
+            region: Region::Whole,
+            assign: Assignments {
+                lower: Some(0.0),
+                upper: Some(0.5),
+                ..Default::default()
+            },
+        },
+        Layer {
+            name: "reference".into(),
+            enabled: true,
+            region: Region::Box {
+                x: [0.0, 1000.0],
+                y: [0.0, 1000.0],
+                z: [-60.0, 0.0],
+            },
+            assign: Assignments {
+                reference: Some(0.0),
+                reference_weight: Some(100.0),
+                ..Default::default()
+            },
+        },
     ];
-    let k = build(&mesh, &act, &layers, Defaults::density(), &Inputs::default()).unwrap().0;
+    let k = build(
+        &mesh,
+        &act,
+        &layers,
+        Defaults::density(),
+        &Inputs::default(),
+    )
+    .unwrap()
+    .0;
     let unc = vec![0.002; data.len()];
-    let pb = Problem { mesh: &mesh, constraints: &k, active: &active, data: &data, uncertainty: &unc, reference_elevation_m: 1.0 };
+    let pb = Problem {
+        mesh: &mesh,
+        constraints: &k,
+        active: &active,
+        data: &data,
+        uncertainty: &unc,
+        reference_elevation_m: 1.0,
+    };
     let t = Instant::now();
-    let r = invert(&op, &pb, &InversionSettings { norms: [0.0, 2.0, 2.0, 2.0], alpha_s: 1e-2, ..Default::default() }, &Silent).unwrap();
+    let r = invert(
+        &op,
+        &pb,
+        &InversionSettings {
+            norms: [0.0, 2.0, 2.0, 2.0],
+            alpha_s: 1e-2,
+            ..Default::default()
+        },
+        &Silent,
+    )
+    .unwrap();
     let cg: usize = r.log.iter().map(|l| l.cg_iterations).sum();
     println!("FFT: {} data, {} cells ({nz} layers): kernels {:.2} s, inversion {:.1} s, {} iterations, {} CG, chi {:.3}, {}", data.len(), op.n_cells(), build_s, t.elapsed().as_secs_f64(), r.log.len(), cg, r.summary.chi_factor, r.summary.stopped_because);
 }
