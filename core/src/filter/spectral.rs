@@ -116,7 +116,8 @@ impl Filter {
 /// Memory limit for one filter's FFT buffers.
 pub const MAX_FFT_BYTES: f64 = 4.0e9;
 
-fn fast_size(n: usize) -> usize {
+/// The smallest n′ ≥ n whose only prime factors are 2, 3 and 5 (fast FFT sizes).
+pub fn fast_size(n: usize) -> usize {
     let mut m = n.max(2);
     loop {
         let mut r = m;

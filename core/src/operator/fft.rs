@@ -18,6 +18,7 @@ use rustfft::FftPlanner;
 use std::sync::Arc;
 
 use super::dense::{OperatorError, Survey};
+use crate::filter::spectral::fast_size;
 
 pub struct FftOperator {
     nx: usize,
@@ -37,22 +38,6 @@ pub struct FftOperator {
     inv: Arc<dyn rustfft::Fft<f64>>,
     fwd_y: Arc<dyn rustfft::Fft<f64>>,
     inv_y: Arc<dyn rustfft::Fft<f64>>,
-}
-
-fn fast(n: usize) -> usize {
-    let mut m = n.max(2);
-    loop {
-        let mut r = m;
-        for p in [2, 3, 5] {
-            while r % p == 0 {
-                r /= p;
-            }
-        }
-        if r == 1 {
-            return m;
-        }
-        m += 1;
-    }
 }
 
 impl FftOperator {
@@ -98,7 +83,7 @@ impl FftOperator {
                 )?
             }
         }
-        let (px, py) = (fast(2 * nx), fast(2 * ny));
+        let (px, py) = (fast_size(2 * nx), fast_size(2 * ny));
         let mut planner = FftPlanner::new();
         let (fwd, inv, fwd_y, inv_y) = (
             planner.plan_fft_forward(px),
