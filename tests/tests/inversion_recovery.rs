@@ -92,7 +92,30 @@ fn constraints(c: &Case, layers: &[Layer]) -> ConstraintArrays {
     .0
 }
 
+/// A layer bounding the whole model below by `lower` (and above by `upper`).
+fn positive(lower: f64, upper: Option<f64>) -> Layer {
+    Layer {
+        name: "positive".into(),
+        enabled: true,
+        region: Region::Whole,
+        assign: Assignments {
+            lower: Some(lower),
+            upper,
+            ..Default::default()
+        },
+    }
+}
+
 fn run(c: &Case, k: &ConstraintArrays, s: &InversionSettings) -> RunResult {
+    run_with(&c.op, c, k, s)
+}
+
+fn run_with<O: Operator>(
+    op: &O,
+    c: &Case,
+    k: &ConstraintArrays,
+    s: &InversionSettings,
+) -> RunResult {
     let unc = vec![SIGMA; c.data.len()];
     let pb = Problem {
         mesh: &c.mesh,
@@ -102,7 +125,7 @@ fn run(c: &Case, k: &ConstraintArrays, s: &InversionSettings) -> RunResult {
         uncertainty: &unc,
         reference_elevation_m: 1.0,
     };
-    invert(&c.op, &pb, s, &Silent).unwrap()
+    invert(op, &pb, s, &Silent).unwrap()
 }
 
 fn within_target(r: &RunResult) -> bool {
@@ -145,19 +168,7 @@ fn a_block_is_recovered_where_it_is_at_the_target_misfit() {
 #[test]
 fn bounds_hold_for_every_cell() {
     let c = case();
-    let k = constraints(
-        &c,
-        &[Layer {
-            name: "positive".into(),
-            enabled: true,
-            region: Region::Whole,
-            assign: Assignments {
-                lower: Some(0.0),
-                upper: Some(0.25),
-                ..Default::default()
-            },
-        }],
-    );
+    let k = constraints(&c, &[positive(0.0, Some(0.25))]);
     let r = run(&c, &k, &InversionSettings::default());
     assert!(
         r.model.iter().all(|v| (0.0..=0.25).contains(v)),
@@ -258,19 +269,7 @@ fn a_sharp_contact_allows_a_larger_vertical_jump() {
 #[test]
 fn focusing_makes_a_more_compact_model_at_the_same_misfit() {
     let c = case();
-    let k = constraints(
-        &c,
-        &[Layer {
-            name: "positive".into(),
-            enabled: true,
-            region: Region::Whole,
-            assign: Assignments {
-                lower: Some(0.0),
-                upper: Some(0.5),
-                ..Default::default()
-            },
-        }],
-    );
+    let k = constraints(&c, &[positive(0.0, Some(0.5))]);
     let l2 = run(&c, &k, &InversionSettings::default());
     let focused = run(
         &c,
@@ -382,31 +381,11 @@ fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
 fn dense_and_fft_runs_give_the_same_model() {
     use fieldstone_core::operator::fft::FftOperator;
     let c = case();
-    let k = constraints(
-        &c,
-        &[Layer {
-            name: "positive".into(),
-            enabled: true,
-            region: Region::Whole,
-            assign: Assignments {
-                lower: Some(0.0),
-                ..Default::default()
-            },
-        }],
-    );
+    let k = constraints(&c, &[positive(0.0, None)]);
     let dense = run(&c, &k, &InversionSettings::default());
     let fft =
         FftOperator::build(&c.mesh, &c.active, 1.0, &vec![true; 256], Survey::Gravity).unwrap();
-    let unc = vec![SIGMA; c.data.len()];
-    let pb = Problem {
-        mesh: &c.mesh,
-        constraints: &k,
-        active: &c.active,
-        data: &c.data,
-        uncertainty: &unc,
-        reference_elevation_m: 1.0,
-    };
-    let f = invert(&fft, &pb, &InversionSettings::default(), &Silent).unwrap();
+    let f = run_with(&fft, &c, &k, &InversionSettings::default());
     assert_eq!(f.summary.operator, "fft");
     let scale = dense.model.iter().fold(0.0f64, |a, v| a.max(v.abs()));
     let diff = dense
