@@ -2,11 +2,27 @@
 
 use fieldstone_core::geodesy::igrf::{decimal_year_of_date, IgrfModel};
 use fieldstone_core::reduce::gravity::{reduce_station, GravitySettings};
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::Command;
 
 fn bin() -> Command {
     Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+}
+
+/// Runs `fieldstone reduce KIND --in INPUT ARGS... [FLAG PATH]... --out OUT`.
+fn reduce(
+    kind: &str,
+    input: &Path,
+    args: &[&str],
+    paths: &[(&str, &Path)],
+    out: &Path,
+) -> std::process::Output {
+    let mut c = bin();
+    c.arg("reduce").arg(kind).arg("--in").arg(input).args(args);
+    for (flag, p) in paths {
+        c.arg(flag).arg(p);
+    }
+    c.arg("--out").arg(out).output().unwrap()
 }
 
 fn scratch(name: &str) -> PathBuf {
@@ -87,15 +103,13 @@ fn igrf_prints_the_library_value_as_csv() {
 fn reduce_gravity_writes_every_correction_and_matches_the_library() {
     let d = scratch("grav");
     std::fs::write(d.join("in.csv"), "station,lat,lon,height_m,gravity_mgal\nA,-33.5,151.2,50,979700.5\nB,-33.6,151.3,250.5,979650.25\n").unwrap();
-    let o = bin()
-        .arg("reduce")
-        .arg("gravity")
-        .arg("--in")
-        .arg(d.join("in.csv"))
-        .args(["--density", "2.67", "--out"])
-        .arg(d.join("out.csv"))
-        .output()
-        .unwrap();
+    let o = reduce(
+        "gravity",
+        &d.join("in.csv"),
+        &["--density", "2.67"],
+        &[],
+        &d.join("out.csv"),
+    );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(String::from_utf8_lossy(&o.stderr).contains("2.67 g/cm³"));
     let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
@@ -104,23 +118,20 @@ fn reduce_gravity_writes_every_correction_and_matches_the_library() {
     let want = reduce_station(&GravitySettings::default(), 979_650.25, -33.6, 250.5, 0.0);
     assert_eq!(cba[1], want.complete_bouguer_anomaly);
     // Switched off corrections are zero in their columns.
-    let o = bin()
-        .arg("reduce")
-        .arg("gravity")
-        .arg("--in")
-        .arg(d.join("in.csv"))
-        .args([
+    let o = reduce(
+        "gravity",
+        &d.join("in.csv"),
+        &[
             "--density",
             "2.67",
             "--no-atmospheric",
             "--no-curvature",
             "--free-air",
             "first-order",
-            "--out",
-        ])
-        .arg(d.join("out2.csv"))
-        .output()
-        .unwrap();
+        ],
+        &[],
+        &d.join("out2.csv"),
+    );
     assert!(o.status.success());
     let text = std::fs::read_to_string(d.join("out2.csv")).unwrap();
     assert_eq!(column(&text, "atmospheric_correction_mgal"), vec![0.0, 0.0]);
@@ -132,12 +143,10 @@ fn relative_readings_are_tied_to_the_base_through_drift_loops() {
     let d = scratch("drift");
     // No tide, drift +0.03 mGal/h; station S1 is 5.5 mGal below the base.
     std::fs::write(d.join("in.csv"), "station,lat,lon,height_m,gravity_mgal,time\nB,-33.5,151.2,50,2000.000,08:00:00\nS1,-33.5,151.21,50,1994.515,08:30:00\nB,-33.5,151.2,50,2000.030,09:00:00\n").unwrap();
-    let o = bin()
-        .arg("reduce")
-        .arg("gravity")
-        .arg("--in")
-        .arg(d.join("in.csv"))
-        .args([
+    let o = reduce(
+        "gravity",
+        &d.join("in.csv"),
+        &[
             "--density",
             "2.67",
             "--base-value",
@@ -147,11 +156,10 @@ fn relative_readings_are_tied_to_the_base_through_drift_loops() {
             "--no-tide",
             "--date",
             "2026-03-01",
-            "--out",
-        ])
-        .arg(d.join("out.csv"))
-        .output()
-        .unwrap();
+        ],
+        &[],
+        &d.join("out.csv"),
+    );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
     let g = column(&text, "observed_gravity_mgal");
@@ -172,16 +180,7 @@ fn bad_reduction_input_is_refused_and_nothing_is_written() {
     for (file, text, args, want) in cases {
         std::fs::write(d.join(file), text).unwrap();
         let out = d.join(format!("{file}.out"));
-        let o = bin()
-            .arg("reduce")
-            .arg(args[0])
-            .arg("--in")
-            .arg(d.join(file))
-            .args(&args[1..])
-            .arg("--out")
-            .arg(&out)
-            .output()
-            .unwrap();
+        let o = reduce(args[0], &d.join(file), &args[1..], &[], &out);
         let e = String::from_utf8_lossy(&o.stderr);
         assert!(!o.status.success() && e.contains(want), "{file}: {e}");
         assert!(!out.exists(), "{file}: output written");
@@ -197,17 +196,13 @@ fn reduce_magnetic_removes_diurnal_and_main_field() {
         "time,mag_nt\n10:00:00,56800\n10:01:00,56802\n10:02:00,56806\n",
     )
     .unwrap();
-    let o = bin()
-        .arg("reduce")
-        .arg("magnetic")
-        .arg("--in")
-        .arg(d.join("in.csv"))
-        .args(["--date", "2026-05-10", "--datum-nt", "56800", "--base"])
-        .arg(d.join("base.csv"))
-        .arg("--out")
-        .arg(d.join("out.csv"))
-        .output()
-        .unwrap();
+    let o = reduce(
+        "magnetic",
+        &d.join("in.csv"),
+        &["--date", "2026-05-10", "--datum-nt", "56800"],
+        &[("--base", d.join("base.csv").as_path())],
+        &d.join("out.csv"),
+    );
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
     assert_eq!(column(&text, "diurnal_nt"), vec![1.0, 4.0]);
@@ -228,17 +223,13 @@ fn reduce_magnetic_removes_diurnal_and_main_field() {
         "time,mag_nt\n12:00:00,56800\n12:01:00,56802\n",
     )
     .unwrap();
-    let o = bin()
-        .arg("reduce")
-        .arg("magnetic")
-        .arg("--in")
-        .arg(d.join("in.csv"))
-        .args(["--date", "2026-05-10", "--base"])
-        .arg(d.join("late.csv"))
-        .arg("--out")
-        .arg(d.join("out3.csv"))
-        .output()
-        .unwrap();
+    let o = reduce(
+        "magnetic",
+        &d.join("in.csv"),
+        &["--date", "2026-05-10"],
+        &[("--base", d.join("late.csv").as_path())],
+        &d.join("out3.csv"),
+    );
     assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("does not overlap"));
     assert!(!d.join("out3.csv").exists());
 }
