@@ -1,6 +1,6 @@
 //! `fieldstone`: the project window (no subcommand) and the headless commands.
 
-mod commands;
+use fieldstone::commands;
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -34,6 +34,11 @@ enum Command {
     /// Reduce gravity or magnetic readings to anomalies.
     #[command(subcommand)]
     Reduce(commands::reduce::ReduceCommand),
+    /// Write the invented demo project (a complete project folder).
+    Demo(commands::demo::DemoArgs),
+    /// Run every stale step of a project: import, reduce, grid, regional,
+    /// mesh, constraints, inversion, exports.
+    Run(commands::run::RunArgs),
 }
 
 fn main() -> ExitCode {
@@ -45,7 +50,14 @@ fn main() -> ExitCode {
         Some(Command::Grid(args)) => commands::grid::run(&args),
         Some(Command::Filter(args)) => commands::filter::run(&args),
         Some(Command::Reduce(cmd)) => commands::reduce::run(&cmd),
-        None => commands::window::open(cli.project.as_deref()),
+        Some(Command::Demo(args)) => commands::demo::run(&args),
+        Some(Command::Run(args)) => commands::run::run(&args),
+        None => {
+            use clap::CommandFactory;
+            let _ = cli.project;
+            let _ = Cli::command().print_help();
+            Ok(())
+        }
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

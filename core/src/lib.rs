@@ -3,6 +3,7 @@
 //! invariants they keep.
 
 pub mod constraint;
+pub mod demo;
 pub mod drillhole;
 pub mod export;
 pub mod filter;

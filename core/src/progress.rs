@@ -11,6 +11,10 @@ use std::sync::atomic::{AtomicBool, Ordering};
 pub trait Observer: Sync {
     /// `done` of `total` units of work are finished.
     fn progress(&self, _done: usize, _total: usize) {}
+    /// A line for the log (a step started, an iteration finished).
+    fn message(&self, _text: &str) {}
+    /// An inversion iteration finished (the live run log).
+    fn iteration(&self, _record: &crate::invert::IterationRecord) {}
     /// True when the work should stop as soon as possible.
     fn cancelled(&self) -> bool {
         false

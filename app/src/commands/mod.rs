@@ -1,13 +1,14 @@
 //! One module per headless command; each turns its arguments into calls on
 //! `fieldstone-core` and its errors into one message for the user.
 
+pub mod demo;
 pub mod filter;
 pub mod forward;
 pub mod grid;
 pub mod igrf;
 pub mod inspect;
 pub mod reduce;
-pub mod window;
+pub mod run;
 
 /// The cautions printed with the help and shown in the window.
 pub const CAUTIONS: &str = "Cautions: potential-field models are non-unique. Every model that fits the data is one of \

@@ -302,7 +302,7 @@ fn guard_inputs(out: &Path, inputs: &[&Path]) -> Result<(), String> {
     Ok(())
 }
 
-fn gravity(a: &GravityArgs) -> Result<(), String> {
+pub fn gravity(a: &GravityArgs) -> Result<(), String> {
     guard_inputs(&a.out, &[&a.input])?;
     if !(a.density.is_finite() && a.density > 0.0 && a.density < 10.0) {
         return Err(format!("--density {} is not a reduction density in g/cm³ (expected about 1.8 to 3.3; 2.67 is the common choice)", a.density));
@@ -489,7 +489,7 @@ fn gravity(a: &GravityArgs) -> Result<(), String> {
     Ok(())
 }
 
-fn magnetic(a: &MagneticArgs) -> Result<(), String> {
+pub fn magnetic(a: &MagneticArgs) -> Result<(), String> {
     let mut inputs: Vec<&Path> = vec![&a.input];
     if let Some(b) = &a.base {
         inputs.push(b);

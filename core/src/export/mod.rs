@@ -6,5 +6,6 @@
 //! * [`section`]: sections along polylines and plan slices at an elevation or
 //!   a depth below topography, sampled by cell lookup.
 
+pub mod figure;
 pub mod section;
 pub mod voxel;

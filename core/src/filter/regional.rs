@@ -12,7 +12,17 @@ use thiserror::Error;
 #[serde(tag = "method", rename_all = "snake_case")]
 pub enum RegionalMethod {
     Trend(TrendSettings),
-    UpwardContinuation { height_m: f64 },
+    UpwardContinuation {
+        height_m: f64,
+    },
+    /// A known plane (e.g. from a regional compilation): `value` at
+    /// `origin_m` plus gradients east and north per kilometre, in the data's
+    /// units.
+    Plane {
+        origin_m: [f64; 2],
+        value: f64,
+        gradient_per_km: [f64; 2],
+    },
 }
 
 #[derive(Debug, Error, PartialEq)]
@@ -38,6 +48,21 @@ pub fn separate(
             },
             obs,
         )?,
+        RegionalMethod::Plane {
+            origin_m,
+            value,
+            gradient_per_km,
+        } => {
+            let mut r = g.clone();
+            for j in 0..g.ny {
+                for i in 0..g.nx {
+                    r.values[i + g.nx * j] = value
+                        + gradient_per_km[0] * (g.x_of(i) - origin_m[0]) / 1000.0
+                        + gradient_per_km[1] * (g.y_of(j) - origin_m[1]) / 1000.0;
+                }
+            }
+            r
+        }
     };
     for (r, d) in regional.values.iter_mut().zip(&g.values) {
         if !d.is_finite() {
@@ -72,6 +97,11 @@ mod tests {
                 polygon: None,
             }),
             RegionalMethod::UpwardContinuation { height_m: 40.0 },
+            RegionalMethod::Plane {
+                origin_m: [0.0, 0.0],
+                value: 1.0,
+                gradient_per_km: [2.0, -1.0],
+            },
         ] {
             let (reg, res) = separate(&g, &m, &Silent).unwrap();
             for k in 0..g.values.len() {
@@ -82,6 +112,10 @@ mod tests {
                 }
             }
             assert!(res.note.contains("residual"));
+            if let RegionalMethod::Plane { .. } = m {
+                // 1 + 2·x/1000 − y/1000 at node (3, 4) = (30 m, 40 m).
+                assert!((reg.get(3, 4) - (1.0 + 0.06 - 0.04)).abs() < 1e-12);
+            }
         }
     }
 }

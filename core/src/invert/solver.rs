@@ -455,10 +455,14 @@ pub fn invert<O: Operator>(
             epsilon: eps,
             elapsed_s: start.elapsed().as_secs_f64(),
         });
+        if let Some(r) = log.last() {
+            obs.iteration(r);
+        }
         phi_d
     };
     let mut stopped = String::from("maximum iterations reached before the target misfit");
     let mut hi_beta: Option<(f64, Vec<f64>)> = None; // last β with φ_d above target
+    let mut lo_beta: Option<f64> = None; // last β with φ_d below target
     let mut reached = false;
     for it in 0..s.max_beta_iterations {
         let cg = setup.solve(&mut m, beta, s, obs)?;
@@ -472,16 +476,21 @@ pub fn invert<O: Operator>(
         }
         if phi_d > target {
             hi_beta = Some((beta, m.clone()));
-            beta /= s.cooling;
+            beta = match &lo_beta {
+                // Bracketed: bisect (geometric mean) towards the last β below target.
+                Some(bl) => (beta * bl).sqrt(),
+                None => beta / s.cooling,
+            };
         } else {
-            // Overshot: bisect β (geometric mean) between the last β above
-            // target and this one.
+            lo_beta = Some(beta);
+            // Overshot: bisect β between the last β above target and this one,
+            // restarting from the model of the β above.
             match &hi_beta {
                 Some((bh, mh)) => {
                     let b_new = (beta * bh).sqrt();
-                    if (b_new - beta).abs() <= 1e-3 * beta {
+                    if (bh / beta - 1.0).abs() <= 1e-3 {
                         reached = true;
-                        stopped = "target misfit reached (β bisection converged)".into();
+                        stopped = format!("β bracket closed at chi-factor {:.3} (the inner solves are inexact; raise max_cg for a closer fit)", phi_d / nd as f64);
                         break;
                     }
                     m = mh.clone();
@@ -517,7 +526,9 @@ pub fn invert<O: Operator>(
             .map(|f| ((m[f.b as usize] - m[f.a as usize]) * f.inv_h).abs())
             .collect();
         let mut eps_f = percentile(&grads, 0.98).max(1e-15);
-        let (eps_s_min, eps_f_min) = (eps_s * 1e-3, eps_f * 1e-3);
+        // ε stops at a hundredth of its start: smaller values make the
+        // reweighted system too ill-conditioned for the inner solves to converge.
+        let (eps_s_min, eps_f_min) = (eps_s * 1e-2, eps_f * 1e-2);
         let mut setup = setup;
         for _ in 0..s.max_irls_iterations {
             let before = setup.obj.value(&m).total;
@@ -620,6 +631,10 @@ fn finish<O: Operator>(
     let last = log.last().cloned();
     let phi_d = setup.phi_d(&pred);
     let nd = pred.len();
+    let mut stopped = stopped;
+    if (phi_d - target).abs() > 0.05 * target {
+        stopped.push_str(&format!("; the final chi-factor {:.3} is more than 5 % from the target: treat this model with care (raise max_cg or check the uncertainties)", phi_d / nd as f64));
+    }
     let summary = RunSummary {
         n_data: nd,
         n_cells_active: m.len(),

@@ -14,7 +14,7 @@ use std::path::{Path, PathBuf};
 use thiserror::Error;
 
 /// The schema this program writes.
-pub const SCHEMA_VERSION: u32 = 1;
+pub const SCHEMA_VERSION: u32 = 2;
 /// The file name inside a project folder.
 pub const PROJECT_FILE: &str = "project.json";
 
@@ -27,13 +27,119 @@ pub struct ImportStep {
     pub spec: ImportSpec,
 }
 
+/// Which data a scenario inverts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum DataKind {
+    /// Residual gravity at the stations: a density-contrast model, g/cm³.
+    #[default]
+    Gravity,
+    /// Residual total-field anomaly at the (thinned) readings: a
+    /// susceptibility model, SI.
+    Magnetic,
+}
+
+/// Which sensitivity operator a run uses.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(rename_all = "snake_case")]
+pub enum OperatorChoice {
+    /// Dense when the matrix fits in half the available memory, otherwise the
+    /// FFT operator when the mesh and data allow it.
+    #[default]
+    Automatic,
+    Dense,
+    Fft,
+}
+
 /// A named set of constraint layers and inversion settings on the same data
 /// and mesh.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Scenario {
     pub name: String,
+    #[serde(default)]
+    pub data: DataKind,
+    #[serde(default)]
+    pub operator: OperatorChoice,
     pub layers: Vec<Layer>,
     pub settings: InversionSettings,
+}
+
+/// The gravity survey of a project and how its readings are reduced.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct GravityInput {
+    /// Reading table, relative to the project folder: x, y (project EPSG),
+    /// height_m, gravity_mgal, and time, station, line for drift loops.
+    pub file: String,
+    /// Base station id and its absolute gravity, mGal: the readings are
+    /// relative and are reduced for tide and drift in base loops.
+    pub base_station: Option<String>,
+    pub base_value_mgal: Option<f64>,
+    pub max_drift_mgal_per_h: f64,
+    pub tide: bool,
+    pub gravimetric_factor: f64,
+    /// Outer radius of the terrain correction from the project DEM, metres.
+    pub terrain_outer_m: Option<f64>,
+    /// Data uncertainty: floor (mGal) plus a percentage of each datum.
+    pub uncertainty_floor_mgal: f64,
+    pub uncertainty_percent: f64,
+}
+
+/// The magnetic survey of a project.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MagneticInput {
+    /// Reading table: x, y, height_m, mag_nt, time.
+    pub file: String,
+    /// Base-station record: time, mag_nt.
+    pub base_file: Option<String>,
+    /// Survey date (YYYY-MM-DD) for the main field.
+    pub date: String,
+    /// Readings are thinned along each line to about this spacing for the
+    /// inversion, metres (0 keeps every reading).
+    pub thin_to_m: f64,
+    pub uncertainty_floor_nt: f64,
+    pub uncertainty_percent: f64,
+}
+
+/// Drill-hole tables, relative to the project folder.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct HoleInput {
+    pub collars: String,
+    pub surveys: Option<String>,
+    pub intervals: Option<String>,
+}
+
+/// A named file (surface grid or wireframe) relative to the project folder.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct NamedFile {
+    pub name: String,
+    pub file: String,
+}
+
+/// Gridding of the reduced data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct GridSettings {
+    pub cell_m: f64,
+    pub tension: f64,
+}
+
+/// A section line for the exports.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct SectionLine {
+    pub name: String,
+    pub vertices: Vec<[f64; 2]>,
+}
+
+/// What every run exports besides its model and data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, Default)]
+pub struct ExportSettings {
+    #[serde(default)]
+    pub sections: Vec<SectionLine>,
+    /// Plan slices at these depths below the mesh top, metres.
+    #[serde(default)]
+    pub slice_depths_m: Vec<f64>,
+    /// Also draw every section and slice as PNG and SVG figures.
+    #[serde(default)]
+    pub figures: bool,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -47,11 +153,36 @@ pub struct ProjectFile {
     pub inducing_field: Option<InducingField>,
     #[serde(default)]
     pub imports: Vec<ImportStep>,
+    #[serde(default)]
+    pub gravity: Option<GravityInput>,
+    #[serde(default)]
+    pub magnetic: Option<MagneticInput>,
+    /// Terrain model (GeoTIFF), relative to the project folder.
+    #[serde(default)]
+    pub dem: Option<String>,
+    #[serde(default)]
+    pub drill_holes: Option<HoleInput>,
+    /// Named surface grids (GeoTIFF) that constraint regions refer to.
+    #[serde(default)]
+    pub surfaces: Vec<NamedFile>,
+    /// Named closed wireframes (OBJ or STL) that constraint regions refer to.
+    #[serde(default)]
+    pub wireframes: Vec<NamedFile>,
     pub gravity_reduction: Option<GravitySettings>,
+    #[serde(default)]
+    pub gridding: Option<GridSettings>,
     pub regional: Option<RegionalMethod>,
+    /// Regional of the magnetic data (none: the residual is the anomaly).
+    #[serde(default)]
+    pub magnetic_regional: Option<RegionalMethod>,
     pub mesh: Option<MeshRecipe>,
     #[serde(default)]
     pub scenarios: Vec<Scenario>,
+    #[serde(default)]
+    pub exports: ExportSettings,
+    /// The known model of an invented project (the demo), for comparison.
+    #[serde(default)]
+    pub truth: Option<String>,
     #[serde(default)]
     pub provenance: Vec<StepRecord>,
 }
@@ -94,10 +225,20 @@ impl ProjectFile {
             background_density_g_cc: 2.67,
             inducing_field: None,
             imports: vec![],
+            gravity: None,
+            magnetic: None,
+            dem: None,
+            drill_holes: None,
+            surfaces: vec![],
+            wireframes: vec![],
             gravity_reduction: None,
+            gridding: None,
             regional: None,
+            magnetic_regional: None,
             mesh: None,
             scenarios: vec![],
+            exports: ExportSettings::default(),
+            truth: None,
             provenance: vec![],
         }
     }
@@ -162,9 +303,24 @@ impl ProjectFile {
     }
 }
 
-/// Migrations from earlier schemas. Version 1 is the first; later versions
-/// add their steps here, each taking the JSON of the version before.
-fn migrate(value: serde_json::Value, _from: u32) -> serde_json::Value {
+/// Migrations from earlier schemas, each taking the JSON of the version
+/// before. Version 1 → 2: the survey inputs, gridding, exports and truth
+/// keys were added (absent means none) and scenarios gained `data` and
+/// `operator` (gravity, automatic).
+fn migrate(mut value: serde_json::Value, from: u32) -> serde_json::Value {
+    if from < 2 {
+        if let Some(scenarios) = value.get_mut("scenarios").and_then(|s| s.as_array_mut()) {
+            for s in scenarios {
+                if let Some(o) = s.as_object_mut() {
+                    o.entry("data").or_insert("gravity".into());
+                    o.entry("operator").or_insert("automatic".into());
+                }
+            }
+        }
+        if let Some(o) = value.as_object_mut() {
+            o.insert("schema_version".into(), 2.into());
+        }
+    }
     value
 }
 
@@ -190,6 +346,8 @@ mod tests {
             Some(crate::mesh::recipe::default_recipe([0.0, 1000.0], [0.0, 800.0], 25.0, 300.0).0);
         p.scenarios.push(Scenario {
             name: "smooth".into(),
+            data: DataKind::Gravity,
+            operator: OperatorChoice::Automatic,
             layers: vec![],
             settings: InversionSettings::default(),
         });
@@ -197,6 +355,23 @@ mod tests {
         let l = ProjectFile::load(&d).unwrap();
         assert_eq!(l.project, p);
         assert!(l.read_only_because.is_none());
+    }
+
+    #[test]
+    fn every_earlier_schema_opens() {
+        // A version-1 file as version 1 wrote it (fixture kept in the tree).
+        let d = dir("v1");
+        std::fs::write(
+            d.join(PROJECT_FILE),
+            include_str!("../../tests/project_v1.json"),
+        )
+        .unwrap();
+        let l = ProjectFile::load(&d).unwrap();
+        assert!(l.read_only_because.is_none());
+        assert_eq!(l.project.schema_version, SCHEMA_VERSION);
+        assert_eq!(l.project.scenarios.len(), 1);
+        assert_eq!(l.project.scenarios[0].data, DataKind::Gravity);
+        assert_eq!(l.project.mesh.as_ref().unwrap().cell_xy_m, [25.0, 25.0]);
     }
 
     #[test]

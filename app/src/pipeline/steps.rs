@@ -1,0 +1,1081 @@
+//! The work of each pipeline step.
+
+use super::data::{load_points, write_points, write_text, Points};
+use super::{at, run_dir};
+use crate::commands::grid::{GridArgs, Method};
+use crate::commands::reduce::{EllipsoidArg, FreeAirArg, GravityArgs, MagneticArgs};
+use fieldstone_core::constraint::build::{build, ConstraintArrays, Defaults};
+use fieldstone_core::constraint::region::Inputs;
+use fieldstone_core::constraint::wireframe::Wireframe;
+use fieldstone_core::demo::truth::TrueModel;
+use fieldstone_core::drillhole::tables::{load_holes, DrillholeSpec};
+use fieldstone_core::drillhole::DipConvention;
+use fieldstone_core::export::figure::{grid_figure, section_figure};
+use fieldstone_core::export::section::{plan_slice, section, SliceLevel};
+use fieldstone_core::export::voxel::{
+    mesh_description, write_npy, write_vtr, CellArray, Provenance,
+};
+use fieldstone_core::filter::regional::{separate, RegionalMethod};
+use fieldstone_core::geodesy::normal_gravity::GravityEllipsoid;
+use fieldstone_core::grid::geotiff::{read_geotiff, write_geotiff};
+use fieldstone_core::grid::Grid2;
+use fieldstone_core::invert::solver::{invert, Problem, RunResult};
+use fieldstone_core::mesh::size::{available_memory_bytes, estimate, ASSUMED_MEMORY_BYTES};
+use fieldstone_core::mesh::topo::{active_cells, ActiveCells};
+use fieldstone_core::mesh::TensorMesh;
+use fieldstone_core::operator::dense::{DenseOperator, Survey};
+use fieldstone_core::operator::fft::FftOperator;
+use fieldstone_core::operator::Operator;
+use fieldstone_core::progress::Observer;
+use fieldstone_core::project::file::{DataKind, OperatorChoice, ProjectFile, Scenario};
+use fieldstone_core::reduce::gravity::FreeAir;
+use fieldstone_core::table::passthrough::read_passthrough;
+use fieldstone_core::table::TextOptions;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+/// What later steps need and earlier steps made, loaded once per run.
+pub struct Context {
+    dir: PathBuf,
+    model: Option<ModelContext>,
+}
+
+impl Context {
+    pub fn new(dir: &Path) -> Context {
+        Context {
+            dir: dir.to_path_buf(),
+            model: None,
+        }
+    }
+    fn model(&mut self, p: &ProjectFile) -> Result<&ModelContext, String> {
+        if self.model.is_none() {
+            self.model = Some(load_model_context(&self.dir, p)?);
+        }
+        Ok(self.model.as_ref().expect("just set"))
+    }
+}
+
+/// The mesh, its active cells and the named inputs constraint regions use.
+pub struct ModelContext {
+    pub mesh: TensorMesh,
+    pub active: ActiveCells,
+    pub dem: Option<Grid2>,
+    pub inputs: Inputs,
+}
+
+fn hole_spec(dir: &Path, p: &ProjectFile) -> Result<Option<DrillholeSpec>, String> {
+    let Some(h) = &p.drill_holes else {
+        return Ok(None);
+    };
+    Ok(Some(DrillholeSpec {
+        collars: at(dir, &h.collars)?,
+        surveys: h.surveys.as_deref().map(|s| at(dir, s)).transpose()?,
+        intervals: h.intervals.as_deref().map(|s| at(dir, s)).transpose()?,
+        dip_convention: DipConvention::NegativeDown,
+        text: TextOptions::default(),
+    }))
+}
+
+/// Builds the mesh from the recipe, its active cells under the DEM, and
+/// loads the surfaces, wireframes and drill holes.
+pub fn load_model_context(dir: &Path, p: &ProjectFile) -> Result<ModelContext, String> {
+    let recipe = p
+        .mesh
+        .as_ref()
+        .ok_or("the project has no mesh recipe (set one in Model space)")?;
+    let mesh = recipe.build().map_err(|e| format!("mesh: {e}"))?;
+    let dem = p
+        .dem
+        .as_deref()
+        .map(|f| at(dir, f).and_then(|f| read_geotiff(&f).map_err(|e| e.to_string())))
+        .transpose()?;
+    let active = active_cells(&mesh, dem.as_ref(), false, true).map_err(|e| e.to_string())?;
+    let mut inputs = Inputs::default();
+    for s in &p.surfaces {
+        inputs.surfaces.insert(
+            s.name.clone(),
+            read_geotiff(&at(dir, &s.file)?).map_err(|e| e.to_string())?,
+        );
+    }
+    for w in &p.wireframes {
+        inputs.wireframes.insert(
+            w.name.clone(),
+            Wireframe::read(&at(dir, &w.file)?).map_err(|e| e.to_string())?,
+        );
+    }
+    if let Some(spec) = hole_spec(dir, p)? {
+        inputs.holes = Some(load_holes(&spec).map_err(|e| e.to_string())?.0);
+    }
+    Ok(ModelContext {
+        mesh,
+        active,
+        dem,
+        inputs,
+    })
+}
+
+fn data_path(dir: &Path, f: &str) -> PathBuf {
+    dir.join("data").join(f)
+}
+
+/// Runs one step; returns a one-line summary.
+pub fn run_step(
+    step: &str,
+    p: &mut ProjectFile,
+    ctx: &mut Context,
+    scenario: Option<&Scenario>,
+    obs: &dyn Observer,
+) -> Result<String, String> {
+    let dir = ctx.dir.clone();
+    match step {
+        "import" => import(&dir, p),
+        "reduce" => reduce(&dir, p),
+        "grid" => grid(&dir, p),
+        "regional" => regional(&dir, p, obs),
+        "mesh" => {
+            ctx.model = None;
+            mesh_step(&dir, p, ctx)
+        }
+        "constraints" => {
+            let s = scenario.ok_or("no scenario")?;
+            let m = ctx.model(p)?;
+            let (c, warnings) = constraints_of(m, s)?;
+            let rd = run_dir(&dir, &s.name);
+            std::fs::create_dir_all(&rd).map_err(|e| format!("{}: {e}", rd.display()))?;
+            write_constraints(&rd.join("constraints.vtr"), &m.mesh, &c, p, s)?;
+            for w in &warnings {
+                obs.message(&format!("  warning: {w}"));
+            }
+            let free = c
+                .active
+                .iter()
+                .zip(&c.fixed)
+                .filter(|(a, f)| **a && !**f)
+                .count();
+            Ok(format!(
+                "{} layers, {free} free active cells, {} warnings",
+                s.layers.iter().filter(|l| l.enabled).count(),
+                warnings.len()
+            ))
+        }
+        "inversion" => {
+            let s = scenario.ok_or("no scenario")?;
+            inversion(&dir, p, ctx, s, obs)
+        }
+        "exports" => {
+            let s = scenario.ok_or("no scenario")?;
+            exports(&dir, p, ctx, s)
+        }
+        other => Err(format!("unknown step {other}")),
+    }
+}
+
+fn import(dir: &Path, p: &ProjectFile) -> Result<String, String> {
+    let mut report = serde_json::Map::new();
+    let mut parts = Vec::new();
+    let need = |t: &fieldstone_core::table::passthrough::PassThroughTable,
+                cols: &[&str]|
+     -> Result<(), String> {
+        for c in cols {
+            t.require(c, "see the project's survey settings")
+                .map_err(|e| e.to_string())?;
+        }
+        Ok(())
+    };
+    if let Some(g) = &p.gravity {
+        let t = read_passthrough(&at(dir, &g.file)?, &[]).map_err(|e| e.to_string())?;
+        need(&t, &["x", "y", "height_m", "gravity_mgal"])?;
+        if g.base_station.is_some() {
+            need(&t, &["time", "station"])?;
+        }
+        report.insert("gravity_readings".into(), t.n_rows().into());
+        parts.push(format!("{} gravity readings", t.n_rows()));
+    }
+    if let Some(m) = &p.magnetic {
+        let t = read_passthrough(&at(dir, &m.file)?, &[]).map_err(|e| e.to_string())?;
+        need(&t, &["x", "y", "height_m", "mag_nt"])?;
+        report.insert("magnetic_readings".into(), t.n_rows().into());
+        parts.push(format!("{} magnetic readings", t.n_rows()));
+    }
+    if let Some(d) = &p.dem {
+        let g = read_geotiff(&at(dir, d)?).map_err(|e| e.to_string())?;
+        if let (Some(a), Some(b)) = (g.epsg, p.epsg) {
+            if a != b {
+                return Err(format!(
+                    "{d} is in EPSG:{a} but the project is in EPSG:{b}; reproject one"
+                ));
+            }
+        }
+        parts.push(format!("terrain {} × {}", g.nx, g.ny));
+    }
+    if let Some(spec) = hole_spec(dir, p)? {
+        let (holes, issues) = load_holes(&spec).map_err(|e| e.to_string())?;
+        report.insert("holes".into(), holes.holes.len().into());
+        report.insert(
+            "hole_issues".into(),
+            issues
+                .iter()
+                .map(|i| i.to_string())
+                .collect::<Vec<_>>()
+                .into(),
+        );
+        parts.push(format!(
+            "{} drill holes ({} issues)",
+            holes.holes.len(),
+            issues.len()
+        ));
+    }
+    for w in &p.wireframes {
+        let wf = Wireframe::read(&at(dir, &w.file)?).map_err(|e| e.to_string())?;
+        let c = wf.closedness();
+        if !c.is_closed() {
+            return Err(format!("{}: {}", w.file, c.report()));
+        }
+        parts.push(format!("wireframe {} closed", w.name));
+    }
+    for s in &p.surfaces {
+        read_geotiff(&at(dir, &s.file)?).map_err(|e| e.to_string())?;
+    }
+    write_text(
+        &data_path(dir, "import_report.json"),
+        &serde_json::to_string_pretty(&report).unwrap_or_default(),
+    )?;
+    Ok(parts.join(", "))
+}
+
+/// A reduced table and the numbers of four of its columns.
+fn numeric_columns(
+    path: &Path,
+    names: [&str; 4],
+) -> Result<
+    (
+        fieldstone_core::table::passthrough::PassThroughTable,
+        [Vec<f64>; 4],
+    ),
+    String,
+> {
+    let t = read_passthrough(path, &[]).map_err(|e| e.to_string())?;
+    let mut cols: [Vec<f64>; 4] = Default::default();
+    for (c, name) in cols.iter_mut().zip(names) {
+        let i = t.require(name, "").map_err(|e| e.to_string())?;
+        *c = t.numbers(i, true).map_err(|e| e.to_string())?;
+    }
+    Ok((t, cols))
+}
+
+fn reduce(dir: &Path, p: &ProjectFile) -> Result<String, String> {
+    let mut parts = Vec::new();
+    if let Some(g) = &p.gravity {
+        let s = p.gravity_reduction.unwrap_or_default();
+        let out = data_path(dir, "gravity_reduced.csv");
+        crate::commands::reduce::gravity(&GravityArgs {
+            input: at(dir, &g.file)?,
+            density: s.density_g_cc,
+            out: out.clone(),
+            ellipsoid: match s.ellipsoid {
+                GravityEllipsoid::Grs80 => EllipsoidArg::Grs80,
+                GravityEllipsoid::Wgs84 => EllipsoidArg::Wgs84,
+            },
+            free_air: match s.free_air {
+                FreeAir::SecondOrder => FreeAirArg::SecondOrder,
+                FreeAir::FirstOrder => FreeAirArg::FirstOrder,
+            },
+            no_atmospheric: !s.atmospheric,
+            no_curvature: !s.curvature,
+            dem: match (&p.dem, g.terrain_outer_m) {
+                (Some(d), Some(_)) => Some(at(dir, d)?),
+                _ => None,
+            },
+            terrain_outer_m: g.terrain_outer_m.filter(|_| p.dem.is_some()),
+            terrain_inner_m: 0.0,
+            far_dem: None,
+            epsg: p.epsg,
+            base_value: g.base_value_mgal,
+            base_station: g.base_station.clone(),
+            max_drift: g.max_drift_mgal_per_h,
+            no_tide: !g.tide,
+            gravimetric_factor: g.gravimetric_factor,
+            date: None,
+        })?;
+        let (t, [x, y, h, cba]) = numeric_columns(
+            &out,
+            ["x", "y", "height_m", "complete_bouguer_anomaly_mgal"],
+        )?;
+        let sc = t.column("station");
+        let mut pts = Points::default();
+        for k in 0..t.n_rows() {
+            if let (Some(b), Some(c)) = (&g.base_station, sc) {
+                if &t.text(k, c) == b {
+                    continue;
+                }
+            }
+            pts.xyz.push([x[k], y[k], h[k]]);
+            pts.value.push(cba[k]);
+            pts.uncertainty.push(g.uncertainty_floor_mgal);
+        }
+        write_points(
+            &data_path(dir, "gravity_stations.csv"),
+            &pts,
+            "cba_mgal",
+            "complete Bouguer anomaly at the survey stations (base readings left out), mGal",
+        )?;
+        parts.push(format!(
+            "{} gravity stations reduced (density {} g/cm³)",
+            pts.value.len(),
+            s.density_g_cc
+        ));
+    }
+    if let Some(m) = &p.magnetic {
+        let out = data_path(dir, "magnetic_reduced.csv");
+        crate::commands::reduce::magnetic(&MagneticArgs {
+            input: at(dir, &m.file)?,
+            date: m.date.clone(),
+            out: out.clone(),
+            base: m.base_file.as_deref().map(|b| at(dir, b)).transpose()?,
+            datum_nt: None,
+            max_gap_s: 120.0,
+            epsg: p.epsg,
+        })?;
+        let (t, [x, y, h, tmi]) = numeric_columns(&out, ["x", "y", "height_m", "tmi_anomaly_nt"])?;
+        let lc = t.column("line");
+        let mut pts = Points::default();
+        let mut last: Option<(String, [f64; 2])> = None;
+        for k in 0..t.n_rows() {
+            let line = lc.map(|c| t.text(k, c)).unwrap_or_default();
+            let keep = match &last {
+                Some((l, q)) if *l == line => {
+                    (x[k] - q[0]).hypot(y[k] - q[1]) >= 0.999 * m.thin_to_m
+                }
+                _ => true,
+            };
+            if keep {
+                pts.xyz.push([x[k], y[k], h[k]]);
+                pts.value.push(tmi[k]);
+                pts.uncertainty.push(m.uncertainty_floor_nt);
+                last = Some((line, [x[k], y[k]]));
+            }
+        }
+        write_points(
+            &data_path(dir, "magnetic_points.csv"),
+            &pts,
+            "tmi_nt",
+            &format!(
+                "total-field anomaly, nT, thinned to about {} m along lines",
+                m.thin_to_m
+            ),
+        )?;
+        parts.push(format!(
+            "{} magnetic readings reduced, {} kept",
+            t.n_rows(),
+            pts.value.len()
+        ));
+    }
+    Ok(parts.join("; "))
+}
+
+fn kinds(p: &ProjectFile) -> Vec<(&'static str, &'static str, &'static str, &'static str)> {
+    // (kind, points file, value column, units)
+    let mut v = Vec::new();
+    if p.gravity.is_some() {
+        v.push(("gravity", "gravity_stations.csv", "cba_mgal", "mGal"));
+    }
+    if p.magnetic.is_some() {
+        v.push(("magnetic", "magnetic_points.csv", "tmi_nt", "nT"));
+    }
+    v
+}
+
+fn grid(dir: &Path, p: &ProjectFile) -> Result<String, String> {
+    let gs = p
+        .gridding
+        .clone()
+        .ok_or("the project has no gridding settings")?;
+    let mut parts = Vec::new();
+    for (kind, file, col, units) in kinds(p) {
+        let out = data_path(dir, &format!("{kind}_grid.tif"));
+        crate::commands::grid::run(&GridArgs {
+            input: data_path(dir, file),
+            x: "x".into(),
+            y: "y".into(),
+            value: col.into(),
+            cell: gs.cell_m,
+            out: out.clone(),
+            tension: gs.tension,
+            blank_m: None,
+            hull: false,
+            method: Method::MinCurvature,
+            epsg: p.epsg,
+            units: units.into(),
+        })?;
+        parts.push(format!("{kind} gridded at {} m", gs.cell_m));
+    }
+    Ok(parts.join(", "))
+}
+
+fn regional(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String, String> {
+    let mut parts = Vec::new();
+    for (kind, file, col, _) in kinds(p) {
+        let method = match kind {
+            "gravity" => p
+                .regional
+                .clone()
+                .ok_or("the project has no regional method for gravity")?,
+            _ => p
+                .magnetic_regional
+                .clone()
+                .unwrap_or(RegionalMethod::Plane {
+                    origin_m: [0.0, 0.0],
+                    value: 0.0,
+                    gradient_per_km: [0.0, 0.0],
+                }),
+        };
+        let g = read_geotiff(&data_path(dir, &format!("{kind}_grid.tif")))
+            .map_err(|e| e.to_string())?;
+        let (reg, res) = separate(&g, &method, obs).map_err(|e| e.to_string())?;
+        write_geotiff(&data_path(dir, &format!("{kind}_regional.tif")), &reg)
+            .map_err(|e| e.to_string())?;
+        write_geotiff(&data_path(dir, &format!("{kind}_residual.tif")), &res)
+            .map_err(|e| e.to_string())?;
+        let pts = load_points(&data_path(dir, file))?;
+        let (floor, pct) = match kind {
+            "gravity" => p
+                .gravity
+                .as_ref()
+                .map(|g| (g.uncertainty_floor_mgal, g.uncertainty_percent))
+                .unwrap_or((0.02, 0.0)),
+            _ => p
+                .magnetic
+                .as_ref()
+                .map(|m| (m.uncertainty_floor_nt, m.uncertainty_percent))
+                .unwrap_or((1.0, 2.0)),
+        };
+        let mut out = Points::default();
+        let mut skipped = 0;
+        for k in 0..pts.value.len() {
+            match reg.sample(pts.xyz[k][0], pts.xyz[k][1]) {
+                Ok(r) if r.is_finite() => {
+                    let v = pts.value[k] - r;
+                    out.xyz.push(pts.xyz[k]);
+                    out.value.push(v);
+                    out.uncertainty.push(floor + 0.01 * pct * v.abs());
+                }
+                _ => skipped += 1,
+            }
+        }
+        write_points(&data_path(dir, &format!("{kind}_data.csv")), &out, &format!("residual_{col}"), &format!("residual after the regional ({method:?}) at the data points, with the data uncertainty (floor {floor} + {pct} %)"))?;
+        parts.push(format!(
+            "{kind}: {} residual data{}",
+            out.value.len(),
+            if skipped > 0 {
+                format!(" ({skipped} outside the regional grid left out)")
+            } else {
+                String::new()
+            }
+        ));
+    }
+    Ok(parts.join("; "))
+}
+
+fn prov(p: &ProjectFile, source: &str, units: &str) -> Provenance {
+    Provenance {
+        program: format!("Fieldstone {}", env!("CARGO_PKG_VERSION")),
+        source: source.into(),
+        units: units.into(),
+        background: format!(
+            "density contrasts relative to {} g/cm³",
+            p.background_density_g_cc
+        ),
+        epsg: p.epsg,
+    }
+}
+
+fn mesh_step(dir: &Path, p: &ProjectFile, ctx: &mut Context) -> Result<String, String> {
+    let m = ctx.model(p)?;
+    let n_data = kinds(p)
+        .iter()
+        .map(|(k, ..)| {
+            load_points(&data_path(dir, &format!("{k}_data.csv")))
+                .map(|d| d.value.len())
+                .unwrap_or(0)
+        })
+        .max()
+        .unwrap_or(0);
+    let est = estimate(
+        m.mesh.n_cells(),
+        m.active.count(),
+        n_data,
+        available_memory_bytes(),
+    );
+    let pv = prov(p, "mesh recipe of project.json", "m");
+    let mut desc =
+        serde_json::to_value(mesh_description(&m.mesh, &pv)).map_err(|e| e.to_string())?;
+    desc["active_cells"] = m.active.count().into();
+    desc["size_estimate"] = serde_json::to_value(&est).map_err(|e| e.to_string())?;
+    write_text(
+        &data_path(dir, "mesh.json"),
+        &serde_json::to_string_pretty(&desc).unwrap_or_default(),
+    )?;
+    let act: Vec<f64> = m
+        .active
+        .active
+        .iter()
+        .map(|a| if *a { 1.0 } else { 0.0 })
+        .collect();
+    write_npy(&data_path(dir, "active.npy"), &m.mesh, &act).map_err(|e| e.to_string())?;
+    let [nx, ny, nz] = m.mesh.shape();
+    Ok(format!(
+        "{nx} × {ny} × {nz} = {} cells, {} active; dense sensitivity {:.0} MB",
+        m.mesh.n_cells(),
+        m.active.count(),
+        est.dense_bytes as f64 / 1e6
+    ))
+}
+
+/// The constraint arrays of a scenario.
+pub fn constraints_of(
+    m: &ModelContext,
+    s: &Scenario,
+) -> Result<(ConstraintArrays, Vec<String>), String> {
+    let d = match s.data {
+        DataKind::Gravity => Defaults::density(),
+        DataKind::Magnetic => Defaults::susceptibility(),
+    };
+    build(&m.mesh, &m.active, &s.layers, d, &m.inputs).map_err(|e| e.to_string())
+}
+
+fn units_of(k: DataKind) -> (&'static str, &'static str) {
+    match k {
+        DataKind::Gravity => ("g/cm³ (density contrast)", "mGal"),
+        DataKind::Magnetic => ("SI (susceptibility)", "nT"),
+    }
+}
+
+fn finite_or_nan(v: &[f64]) -> Vec<f64> {
+    v.iter()
+        .map(|x| if x.is_finite() { *x } else { f64::NAN })
+        .collect()
+}
+
+fn write_constraints(
+    path: &Path,
+    mesh: &TensorMesh,
+    c: &ConstraintArrays,
+    p: &ProjectFile,
+    s: &Scenario,
+) -> Result<(), String> {
+    let (lo, hi) = (finite_or_nan(&c.lower), finite_or_nan(&c.upper));
+    let fixed: Vec<f64> = c.fixed.iter().map(|f| if *f { 1.0 } else { 0.0 }).collect();
+    let active: Vec<f64> = c
+        .active
+        .iter()
+        .map(|f| if *f { 1.0 } else { 0.0 })
+        .collect();
+    let arrays = [
+        CellArray {
+            name: "lower_bound",
+            values: &lo,
+        },
+        CellArray {
+            name: "upper_bound",
+            values: &hi,
+        },
+        CellArray {
+            name: "reference",
+            values: &c.reference,
+        },
+        CellArray {
+            name: "reference_weight",
+            values: &c.reference_weight,
+        },
+        CellArray {
+            name: "starting",
+            values: &c.starting,
+        },
+        CellArray {
+            name: "fixed",
+            values: &fixed,
+        },
+        CellArray {
+            name: "active",
+            values: &active,
+        },
+    ];
+    let pv = prov(
+        p,
+        &format!(
+            "constraints of scenario '{}' (unbounded shown as NaN)",
+            s.name
+        ),
+        units_of(s.data).0,
+    );
+    write_vtr(path, mesh, &arrays, &pv, true).map_err(|e| e.to_string())
+}
+
+/// The data of a scenario.
+pub fn scenario_data(dir: &Path, s: &Scenario) -> Result<Points, String> {
+    load_points(&data_path(
+        dir,
+        match s.data {
+            DataKind::Gravity => "gravity_data.csv",
+            DataKind::Magnetic => "magnetic_data.csv",
+        },
+    ))
+}
+
+fn survey_of(p: &ProjectFile, s: &Scenario) -> Result<Survey, String> {
+    Ok(match s.data {
+        DataKind::Gravity => Survey::Gravity,
+        DataKind::Magnetic => Survey::Magnetic(p.inducing_field.ok_or("a magnetic scenario needs the project's inducing field (intensity, inclination, declination)")?),
+    })
+}
+
+/// Comparison of a model with the known truth of an invented project.
+#[derive(Debug, Clone, serde::Serialize, serde::Deserialize, PartialEq)]
+pub struct TruthComparison {
+    pub rms_difference_core: f64,
+    pub rms_difference_body: f64,
+    pub body_cells: usize,
+    pub correlation_core: f64,
+}
+
+fn truth_on_mesh(
+    dir: &Path,
+    p: &ProjectFile,
+    m: &ModelContext,
+    kind: DataKind,
+) -> Result<Option<Vec<f64>>, String> {
+    let Some(t) = &p.truth else { return Ok(None) };
+    let path = at(dir, t)?;
+    let text = std::fs::read_to_string(&path).map_err(|e| format!("{}: {e}", path.display()))?;
+    let tm: TrueModel =
+        serde_json::from_str(&text).map_err(|e| format!("{}: {e}", path.display()))?;
+    Ok(Some(match kind {
+        DataKind::Gravity => tm.on_mesh(&m.mesh, &m.active.active, 3, |t, q| t.density_at(q)),
+        DataKind::Magnetic => {
+            tm.on_mesh(&m.mesh, &m.active.active, 3, |t, q| t.susceptibility_at(q))
+        }
+    }))
+}
+
+fn compare(mesh: &TensorMesh, active: &[bool], model: &[f64], truth: &[f64]) -> TruthComparison {
+    let [nx, ny, _] = mesh.shape();
+    let in_core = |c: usize| {
+        let (i, j, k) = (c % nx, (c / nx) % ny, c / (nx * ny));
+        let [(i0, i1), (j0, j1), (k0, k1)] = mesh.core;
+        (i0..i1).contains(&i) && (j0..j1).contains(&j) && (k0..k1).contains(&k)
+    };
+    let tmax = truth.iter().cloned().fold(0.0f64, f64::max);
+    let (mut s2, mut n, mut b2, mut nb) = (0.0, 0usize, 0.0, 0usize);
+    let (mut sm, mut st, mut smm, mut stt, mut smt) = (0.0, 0.0, 0.0, 0.0, 0.0);
+    for c in 0..model.len() {
+        if !active[c] || !in_core(c) {
+            continue;
+        }
+        let d = model[c] - truth[c];
+        s2 += d * d;
+        n += 1;
+        if tmax > 0.0 && truth[c] >= 0.5 * tmax {
+            b2 += d * d;
+            nb += 1;
+        }
+        sm += model[c];
+        st += truth[c];
+        smm += model[c] * model[c];
+        stt += truth[c] * truth[c];
+        smt += model[c] * truth[c];
+    }
+    let nf = n.max(1) as f64;
+    let cov = smt / nf - sm * st / (nf * nf);
+    let var = ((smm / nf - (sm / nf).powi(2)) * (stt / nf - (st / nf).powi(2))).sqrt();
+    TruthComparison {
+        rms_difference_core: (s2 / nf).sqrt(),
+        rms_difference_body: (b2 / nb.max(1) as f64).sqrt(),
+        body_cells: nb,
+        correlation_core: if var > 0.0 { cov / var } else { 0.0 },
+    }
+}
+
+/// Everything in a run's `summary.json`.
+#[derive(Debug, Clone, serde::Serialize, serde::Deserialize)]
+pub struct RunFile {
+    pub scenario: String,
+    pub data: DataKind,
+    pub model_units: String,
+    pub data_units: String,
+    pub background: String,
+    pub program: String,
+    #[serde(flatten)]
+    pub summary: fieldstone_core::invert::RunSummary,
+    pub truth_comparison: Option<TruthComparison>,
+    pub caution: String,
+}
+
+pub const CAUTION: &str = "Potential-field models are non-unique: this model is one of infinitely many that fit the data, and the constraints decided which one you see. Interpretation and public reporting of exploration results follow the reporting codes of the jurisdiction and the judgement of a qualified person.";
+
+fn choose_operator(
+    p: &ProjectFile,
+    s: &Scenario,
+    m: &ModelContext,
+    n_data: usize,
+) -> Result<OperatorChoice, String> {
+    let n_act = m.active.count();
+    let avail = available_memory_bytes().unwrap_or(ASSUMED_MEMORY_BYTES);
+    let dense_fits = (n_data as u64 * n_act as u64 * 4) <= avail / 2;
+    Ok(match s.operator {
+        OperatorChoice::Automatic if dense_fits => OperatorChoice::Dense,
+        OperatorChoice::Automatic if m.mesh.uniform_horizontal() => OperatorChoice::Fft,
+        OperatorChoice::Automatic => {
+            let e = estimate(m.mesh.n_cells(), n_act, n_data, Some(avail));
+            return Err(format!("the dense sensitivity ({:.1} GB) does not fit in half the {:.1} GB available, and the mesh has expanding padding so the FFT operator cannot be used. {}", e.dense_bytes as f64 / 1e9, avail as f64 / 1e9, e.advice.join("; ")));
+        }
+        other => {
+            let _ = p;
+            other
+        }
+    })
+}
+
+fn inversion(
+    dir: &Path,
+    p: &ProjectFile,
+    ctx: &mut Context,
+    s: &Scenario,
+    obs: &dyn Observer,
+) -> Result<String, String> {
+    let m = ctx.model(p)?;
+    let (c, _) = constraints_of(m, s)?;
+    let pts = scenario_data(dir, s)?;
+    let survey = survey_of(p, s)?;
+    let active_idx: Vec<usize> = (0..m.mesh.n_cells()).filter(|&k| c.active[k]).collect();
+    let zref = pts
+        .xyz
+        .iter()
+        .map(|q| q[2])
+        .fold(f64::NEG_INFINITY, f64::max);
+    let choice = choose_operator(p, s, m, pts.value.len())?;
+    let (result, data_used): (RunResult, Points) = match choice {
+        OperatorChoice::Fft => {
+            // Gridded residual at the column centres, at one elevation above
+            // the highest datum (an approximation on rough terrain).
+            let kind = match s.data {
+                DataKind::Gravity => "gravity",
+                DataKind::Magnetic => "magnetic",
+            };
+            let res = read_geotiff(&data_path(dir, &format!("{kind}_residual.tif")))
+                .map_err(|e| e.to_string())?;
+            let [nx, ny, _] = m.mesh.shape();
+            let mut mask = vec![false; nx * ny];
+            let mut d = Points::default();
+            let floor = pts
+                .uncertainty
+                .iter()
+                .cloned()
+                .fold(f64::INFINITY, f64::min);
+            for j in 0..ny {
+                for i in 0..nx {
+                    let cc = m.mesh.centre(i, j, 0);
+                    if let Ok(v) = res.sample(cc[0], cc[1]) {
+                        if v.is_finite() {
+                            mask[i + nx * j] = true;
+                            d.xyz.push([cc[0], cc[1], zref]);
+                            d.value.push(v);
+                            d.uncertainty.push(floor);
+                        }
+                    }
+                }
+            }
+            obs.message(&format!("  FFT operator: {} gridded data at {zref:.1} m (data on the terrain are treated as level there)", d.value.len()));
+            let op = FftOperator::build(&m.mesh, &active_idx, zref, &mask, survey)
+                .map_err(|e| e.to_string())?;
+            let pb = Problem {
+                mesh: &m.mesh,
+                constraints: &c,
+                active: &active_idx,
+                data: &d.value,
+                uncertainty: &d.uncertainty,
+                reference_elevation_m: zref,
+            };
+            (
+                invert(&op, &pb, &s.settings, obs).map_err(|e| e.to_string())?,
+                d,
+            )
+        }
+        _ => {
+            let avail = available_memory_bytes().unwrap_or(ASSUMED_MEMORY_BYTES);
+            obs.message(&format!(
+                "  dense operator: {} data × {} cells = {:.0} MB",
+                pts.value.len(),
+                active_idx.len(),
+                pts.value.len() as f64 * active_idx.len() as f64 * 4e-6
+            ));
+            let (xyz, nudged) = off_cell_edges(&m.mesh, &pts.xyz);
+            if nudged > 0 {
+                obs.message(&format!("  {nudged} data lay on cell edges, where the field of a cell is singular; they were moved 1 cm east and north"));
+            }
+            let op = DenseOperator::build(&m.mesh, &active_idx, &xyz, survey, avail / 2, obs)
+                .map_err(|e| e.to_string())?;
+            let pb = Problem {
+                mesh: &m.mesh,
+                constraints: &c,
+                active: &active_idx,
+                data: &pts.value,
+                uncertainty: &pts.uncertainty,
+                reference_elevation_m: zref,
+            };
+            let r = invert(&op, &pb, &s.settings, obs).map_err(|e| e.to_string())?;
+            let _ = op.kind();
+            (r, pts)
+        }
+    };
+    let rd = run_dir(dir, &s.name);
+    std::fs::create_dir_all(&rd).map_err(|e| format!("{}: {e}", rd.display()))?;
+    let mut full = vec![f64::NAN; m.mesh.n_cells()];
+    for (v, &k) in result.model.iter().zip(&active_idx) {
+        full[k] = *v;
+    }
+    let (mu, du) = units_of(s.data);
+    write_npy(&rd.join("model.npy"), &m.mesh, &full).map_err(|e| e.to_string())?;
+    let truth = truth_on_mesh(dir, p, m, s.data)?;
+    let comparison = truth.as_ref().map(|t| {
+        let model0: Vec<f64> = full
+            .iter()
+            .map(|v| if v.is_finite() { *v } else { 0.0 })
+            .collect();
+        compare(&m.mesh, &c.active, &model0, t)
+    });
+    let pv = prov(p, &format!("inversion of scenario '{}'", s.name), mu);
+    let mut arrays = vec![CellArray {
+        name: "model",
+        values: &full,
+    }];
+    let truth_nan: Option<Vec<f64>> = truth.as_ref().map(|t| {
+        t.iter()
+            .zip(&c.active)
+            .map(|(v, a)| if *a { *v } else { f64::NAN })
+            .collect()
+    });
+    if let Some(t) = &truth_nan {
+        arrays.push(CellArray {
+            name: "true_model_invented",
+            values: t,
+        });
+        write_npy(&rd.join("true_model_invented.npy"), &m.mesh, t).map_err(|e| e.to_string())?;
+    }
+    write_vtr(&rd.join("model.vtr"), &m.mesh, &arrays, &pv, true).map_err(|e| e.to_string())?;
+    // Predicted data and residuals.
+    let mut csv = format!("# predicted data of scenario '{}', {du}\nx,y,z,observed,predicted,residual,uncertainty,normalised_residual\n", s.name);
+    for k in 0..data_used.value.len() {
+        let [x, y, z] = data_used.xyz[k];
+        let (o, pr, u) = (
+            data_used.value[k],
+            result.predicted[k],
+            data_used.uncertainty[k],
+        );
+        writeln!(
+            csv,
+            "{x:.3},{y:.3},{z:.3},{o:.6},{pr:.6},{:.6},{u:.6},{:.4}",
+            o - pr,
+            (o - pr) / u
+        )
+        .ok();
+    }
+    write_text(&rd.join("predicted.csv"), &csv)?;
+    let mut log = String::from(
+        "iteration,beta,phi_d,phi_m,chi_factor,cg_iterations,at_lower,at_upper,epsilon,elapsed_s\n",
+    );
+    for r in &result.log {
+        writeln!(
+            log,
+            "{},{:.6e},{:.6e},{:.6e},{:.5},{},{},{},{},{:.3}",
+            r.iteration,
+            r.beta,
+            r.phi_d,
+            r.phi_m,
+            r.chi_factor,
+            r.cg_iterations,
+            r.at_lower,
+            r.at_upper,
+            r.epsilon.map(|e| format!("{e:.3e}")).unwrap_or_default(),
+            r.elapsed_s
+        )
+        .ok();
+    }
+    write_text(&rd.join("log.csv"), &log)?;
+    write_text(
+        &rd.join("log.json"),
+        &serde_json::to_string_pretty(&result.log).unwrap_or_default(),
+    )?;
+    let rf = RunFile {
+        scenario: s.name.clone(),
+        data: s.data,
+        model_units: mu.into(),
+        data_units: du.into(),
+        background: pv.background.clone(),
+        program: pv.program.clone(),
+        summary: result.summary.clone(),
+        truth_comparison: comparison.clone(),
+        caution: CAUTION.into(),
+    };
+    write_text(
+        &rd.join("summary.json"),
+        &serde_json::to_string_pretty(&rf).map_err(|e| e.to_string())?,
+    )?;
+    Ok(format!(
+        "{} data, {} cells, chi-factor {:.3}, {} iterations, {}{}",
+        result.summary.n_data,
+        result.summary.n_cells_active,
+        result.summary.chi_factor,
+        result.summary.iterations,
+        result.summary.stopped_because,
+        comparison
+            .map(|c| format!(
+                "; against the invented truth: RMS {:.4} in the core, {:.4} in the body",
+                c.rms_difference_core, c.rms_difference_body
+            ))
+            .unwrap_or_default()
+    ))
+}
+
+/// Stations moved 1 cm east and north where two of their coordinates fall
+/// on mesh node planes (so they sit on a cell edge), and how many moved.
+pub fn off_cell_edges(mesh: &TensorMesh, xyz: &[[f64; 3]]) -> (Vec<[f64; 3]>, usize) {
+    let on = |nodes: &[f64], v: f64| {
+        let k = nodes.partition_point(|n| *n < v);
+        [k.checked_sub(1), Some(k)]
+            .into_iter()
+            .flatten()
+            .filter_map(|i| nodes.get(i))
+            .any(|n| (n - v).abs() < 1e-6)
+    };
+    let mut moved = 0;
+    let out = xyz
+        .iter()
+        .map(|p| {
+            let hits = on(&mesh.x, p[0]) as u8 + on(&mesh.y, p[1]) as u8 + on(&mesh.z, p[2]) as u8;
+            if hits >= 2 {
+                moved += 1;
+                [p[0] + 0.01, p[1] + 0.01, p[2]]
+            } else {
+                *p
+            }
+        })
+        .collect();
+    (out, moved)
+}
+
+/// Loads a run's model (full mesh, NaN in air) from `model.npy`.
+pub fn load_model(dir: &Path, scenario: &str, n_cells: usize) -> Result<Vec<f64>, String> {
+    let path = run_dir(dir, scenario).join("model.npy");
+    let bytes = std::fs::read(&path).map_err(|e| format!("{}: {e}", path.display()))?;
+    if bytes.len() < 10 || &bytes[..6] != b"\x93NUMPY" {
+        return Err(format!("{} is not a NumPy file", path.display()));
+    }
+    let hl = u16::from_le_bytes([bytes[8], bytes[9]]) as usize;
+    let body = &bytes[10 + hl..];
+    if body.len() != n_cells * 8 {
+        return Err(format!(
+            "{} holds {} values but the mesh has {n_cells} cells; rerun the scenario",
+            path.display(),
+            body.len() / 8
+        ));
+    }
+    Ok(body
+        .chunks_exact(8)
+        .map(|c| f64::from_le_bytes(c.try_into().expect("8 bytes")))
+        .collect())
+}
+
+/// Terrain elevation under each distinct sample position of a section.
+pub fn terrain_along(
+    m: &ModelContext,
+    samples: &[fieldstone_core::export::section::SectionSample],
+) -> Vec<[f64; 2]> {
+    let [nx, _, _] = m.mesh.shape();
+    let mut out: Vec<[f64; 2]> = Vec::new();
+    for q in samples {
+        if out.last().is_some_and(|l| l[0] == q.distance_m) {
+            continue;
+        }
+        if let Some((i, j, _)) = m.mesh.locate([q.x, q.y, m.mesh.z[0]]) {
+            let z = m.active.surface_m[i + nx * j];
+            if z.is_finite() {
+                out.push([q.distance_m, z]);
+            }
+        }
+    }
+    out.sort_by(|a, b| a[0].total_cmp(&b[0]));
+    out.dedup_by(|a, b| a[0] == b[0]);
+    out
+}
+
+fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Result<String, String> {
+    let m = ctx.model(p)?;
+    let model = load_model(dir, &s.name, m.mesh.n_cells())?;
+    let rd = run_dir(dir, &s.name);
+    let (mu, _) = units_of(s.data);
+    let mut files = Vec::new();
+    let step = m.mesh.x[m.mesh.core[0].0 + 1] - m.mesh.x[m.mesh.core[0].0];
+    for line in &p.exports.sections {
+        let samples = section(&m.mesh, &model, &line.vertices, step).map_err(|e| e.to_string())?;
+        let mut csv = format!(
+            "# section '{}' of scenario '{}', {mu}; NaN in air\ndistance_m,x,y,elevation_m,value\n",
+            line.name, s.name
+        );
+        for q in &samples {
+            writeln!(
+                csv,
+                "{:.2},{:.2},{:.2},{:.2},{:.6}",
+                q.distance_m, q.x, q.y, q.elevation_m, q.value
+            )
+            .ok();
+        }
+        let f = format!("section_{}.csv", super::safe_name(&line.name));
+        write_text(&rd.join(&f), &csv)?;
+        files.push(f);
+        if p.exports.figures {
+            let fig = section_figure(
+                &samples,
+                &m.mesh.z,
+                &terrain_along(m, &samples),
+                &format!("{} — section {}", s.name, line.name),
+                mu,
+            );
+            for (ext, bytes) in [("png", fig.png()), ("svg", fig.svg().into_bytes())] {
+                let f = format!("section_{}.{ext}", super::safe_name(&line.name));
+                std::fs::write(rd.join(&f), bytes)
+                    .map_err(|e| format!("{}: {e}", rd.join(&f).display()))?;
+                files.push(f);
+            }
+        }
+    }
+    for d in &p.exports.slice_depths_m {
+        let g = plan_slice(
+            &m.mesh,
+            &model,
+            SliceLevel::Depth(*d),
+            Some(&m.active.surface_m),
+        )
+        .map_err(|e| e.to_string())?;
+        let f = format!("slice_{d}m_depth.tif");
+        write_geotiff(&rd.join(&f), &g).map_err(|e| e.to_string())?;
+        files.push(f);
+        if p.exports.figures {
+            let fig = grid_figure(
+                &g,
+                &format!("{} — plan slice {d} m below the surface", s.name),
+                mu,
+            );
+            for (ext, bytes) in [("png", fig.png()), ("svg", fig.svg().into_bytes())] {
+                let f = format!("slice_{d}m_depth.{ext}");
+                std::fs::write(rd.join(&f), bytes)
+                    .map_err(|e| format!("{}: {e}", rd.join(&f).display()))?;
+                files.push(f);
+            }
+        }
+    }
+    write_text(
+        &rd.join("exports.json"),
+        &serde_json::to_string_pretty(&files).unwrap_or_default(),
+    )?;
+    Ok(format!("{} files", files.len()))
+}

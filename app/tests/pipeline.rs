@@ -1,0 +1,184 @@
+//! The demo project end to end: `fieldstone demo --small` then `fieldstone
+//! run --all-scenarios`; misfit, bounds, comparison with the invented truth,
+//! no work on a second run, bitwise reproducibility and staleness.
+
+use fieldstone::pipeline::{load_model, load_model_context, project_states, RunFile};
+use fieldstone_core::project::file::ProjectFile;
+use fieldstone_core::project::provenance::StepState;
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("fieldstone-pipeline-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    d
+}
+
+fn run(args: &[&str], dir: &Path) -> String {
+    let o = bin().arg("run").arg(dir).args(args).output().unwrap();
+    let err = String::from_utf8_lossy(&o.stderr).to_string();
+    assert!(o.status.success(), "fieldstone run {args:?} failed:\n{err}");
+    err
+}
+
+fn summary(dir: &Path, s: &str) -> RunFile {
+    let t = std::fs::read_to_string(dir.join("runs").join(s).join("summary.json")).unwrap();
+    serde_json::from_str(&t).unwrap()
+}
+
+#[test]
+fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
+    let dir = scratch("demo");
+    let o = bin().args(["demo", "--small"]).arg(&dir).output().unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    // Writing over an existing project is refused.
+    let again = bin().args(["demo", "--small"]).arg(&dir).output().unwrap();
+    assert!(!again.status.success());
+    assert!(String::from_utf8_lossy(&again.stderr).contains("already holds a project"));
+
+    let log = run(&["--all-scenarios"], &dir);
+    assert!(
+        log.contains("import") && log.contains("exports/magnetic_bounds"),
+        "{log}"
+    );
+    let p = ProjectFile::load(&dir).unwrap().project;
+    assert!(p.scenarios.len() >= 4);
+    let m = load_model_context(&dir, &p).unwrap();
+    for s in &p.scenarios {
+        let r = summary(&dir, &s.name);
+        assert!(
+            (r.summary.chi_factor - 1.0).abs() <= 0.05,
+            "{}: chi-factor {}",
+            s.name,
+            r.summary.chi_factor
+        );
+        assert!(r.caution.contains("non-unique"));
+        // Every export the project asks for exists, figures included.
+        let files: Vec<String> = serde_json::from_str(
+            &std::fs::read_to_string(dir.join("runs").join(&s.name).join("exports.json")).unwrap(),
+        )
+        .unwrap();
+        assert!(
+            files.iter().any(|f| f.ends_with(".png"))
+                && files.iter().any(|f| f.ends_with(".svg"))
+                && files.iter().any(|f| f.ends_with(".tif"))
+        );
+        for f in &files {
+            assert!(
+                dir.join("runs")
+                    .join(&s.name)
+                    .join(f)
+                    .metadata()
+                    .unwrap()
+                    .len()
+                    > 100,
+                "{f}"
+            );
+        }
+    }
+    // Bounds are honoured on every active cell.
+    let model = |s: &str| load_model(&dir, s, m.mesh.n_cells()).unwrap();
+    let range = |v: &[f64]| {
+        v.iter()
+            .filter(|x| x.is_finite())
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), x| {
+                (a.min(*x), b.max(*x))
+            })
+    };
+    let (lo, hi) = range(&model("bounds_focusing"));
+    assert!(lo >= -0.6 - 1e-9 && hi <= 0.45 + 1e-9, "{lo} {hi}");
+    let (lo, hi) = range(&model("magnetic_bounds"));
+    assert!(lo >= -1e-12 && hi <= 0.2 + 1e-9, "{lo} {hi}");
+    // Drilling, cover and contact bring the model closer to the (invented) truth.
+    let smooth = summary(&dir, "smooth").truth_comparison.unwrap();
+    let informed = summary(&dir, "drilling_cover_contact")
+        .truth_comparison
+        .unwrap();
+    assert!(
+        informed.rms_difference_core < 0.8 * smooth.rms_difference_core,
+        "{informed:?} vs {smooth:?}"
+    );
+    assert!(
+        informed.rms_difference_body < smooth.rms_difference_body,
+        "{informed:?} vs {smooth:?}"
+    );
+    assert!(informed.body_cells > 100);
+
+    // A second run does no work.
+    let log = run(&["--all-scenarios"], &dir);
+    assert!(log.contains("run: 0 steps ran"), "{log}");
+    // Forcing a rerun gives the same model, bit for bit.
+    let before = std::fs::read(dir.join("runs/smooth/model.npy")).unwrap();
+    let log = run(&["--scenario", "smooth", "--force"], &dir);
+    assert!(log.contains("inversion/smooth") && !log.contains("0 steps ran"));
+    assert_eq!(
+        std::fs::read(dir.join("runs/smooth/model.npy")).unwrap(),
+        before,
+        "a forced rerun changed the model"
+    );
+
+    // Staleness: a new reduction density marks reduce and everything after
+    // it stale, and nothing before.
+    let mut p = ProjectFile::load(&dir).unwrap().project;
+    let st = project_states(&dir, &p).unwrap();
+    assert!(st.iter().all(|(_, s)| *s == StepState::Done), "{st:?}");
+    p.gravity_reduction.as_mut().unwrap().density_g_cc = 2.60;
+    p.save(&dir).unwrap();
+    let st = project_states(&dir, &p).unwrap();
+    assert_eq!(st[0], ("import".to_string(), StepState::Done));
+    assert!(
+        st[1..].iter().all(|(_, s)| *s == StepState::Stale),
+        "{st:?}"
+    );
+    // A changed input file makes everything stale, import included.
+    let g = dir.join("inputs/gravity_readings.csv");
+    let mut text = std::fs::read_to_string(&g).unwrap();
+    text.push('\n');
+    std::fs::write(&g, text).unwrap();
+    let st = project_states(&dir, &p).unwrap();
+    assert_eq!(st[0].1, StepState::Stale);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn run_refuses_bad_projects_with_a_message() {
+    let dir = scratch("bad");
+    std::fs::create_dir_all(&dir).unwrap();
+    let o = bin().arg("run").arg(&dir).output().unwrap();
+    assert!(!o.status.success());
+    assert!(String::from_utf8_lossy(&o.stderr).contains("project.json"));
+    std::fs::write(dir.join("project.json"), "{\"schema_version\": 2, \"name\": \"x\", \"epsg\": null, \"background_density_g_cc\": 2.67, \"inducing_field\": null, \"gravity_reduction\": null, \"regional\": null, \"mesh\": null, \"gravity\": {\"file\": \"../outside.csv\"}}").unwrap();
+    let o = bin().arg("run").arg(&dir).output().unwrap();
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(!o.status.success());
+    assert!(e.contains("gravity"), "{e}");
+    let mut p = ProjectFile::new("empty");
+    p.save(&dir).unwrap();
+    let o = bin()
+        .arg("run")
+        .arg(&dir)
+        .args(["--scenario", "nope"])
+        .output()
+        .unwrap();
+    assert!(String::from_utf8_lossy(&o.stderr).contains("no scenario 'nope'"));
+    p.gravity = Some(fieldstone_core::project::file::GravityInput {
+        file: "../outside.csv".into(),
+        base_station: None,
+        base_value_mgal: None,
+        max_drift_mgal_per_h: 0.05,
+        tide: false,
+        gravimetric_factor: 1.16,
+        terrain_outer_m: None,
+        uncertainty_floor_mgal: 0.02,
+        uncertainty_percent: 0.0,
+    });
+    p.save(&dir).unwrap();
+    let o = bin().arg("run").arg(&dir).output().unwrap();
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(e.contains("leaves the project folder"), "{e}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -1,0 +1,675 @@
+//! Figures: sections and plan maps drawn once as a list of shapes and
+//! written as PNG (rasterised here, lettered with the bundled DejaVu Sans)
+//! or SVG (the same shapes as vector elements).
+
+use crate::grid::Grid2;
+use ab_glyph::{Font, FontRef, PxScale, ScaleFont};
+
+static FONT: &[u8] = include_bytes!("../../../assets/fonts/DejaVuSans.ttf");
+
+/// An RGB colour.
+pub type Rgb = [u8; 3];
+
+/// Colour maps: perceptually uniform sequential and a diverging map for
+/// anomalies centred on zero.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ColourMap {
+    /// Viridis (van der Walt & Smith, matplotlib, CC0); ten stops, values
+    /// from memory of its published table.
+    Viridis,
+    /// Blue–white–red (ColorBrewer RdBu, Brewer 2002), negative blue; values
+    /// from memory of the 11-class scheme.
+    Diverging,
+}
+
+const VIRIDIS: [Rgb; 10] = [
+    [0x44, 0x01, 0x54],
+    [0x48, 0x28, 0x78],
+    [0x3e, 0x4a, 0x89],
+    [0x31, 0x68, 0x8e],
+    [0x26, 0x82, 0x8e],
+    [0x1f, 0x9e, 0x89],
+    [0x35, 0xb7, 0x79],
+    [0x6d, 0xcd, 0x59],
+    [0xb4, 0xde, 0x2c],
+    [0xfd, 0xe7, 0x25],
+];
+const RDBU: [Rgb; 11] = [
+    [0x05, 0x30, 0x61],
+    [0x21, 0x66, 0xac],
+    [0x43, 0x93, 0xc3],
+    [0x92, 0xc5, 0xde],
+    [0xd1, 0xe5, 0xf0],
+    [0xf7, 0xf7, 0xf7],
+    [0xfd, 0xdb, 0xc7],
+    [0xf4, 0xa5, 0x82],
+    [0xd6, 0x60, 0x4d],
+    [0xb2, 0x18, 0x2b],
+    [0x67, 0x00, 0x1f],
+];
+
+impl ColourMap {
+    /// Colour at t in [0, 1].
+    pub fn at(self, t: f64) -> Rgb {
+        let stops: &[Rgb] = match self {
+            ColourMap::Viridis => &VIRIDIS,
+            ColourMap::Diverging => &RDBU,
+        };
+        let t = if t.is_finite() {
+            t.clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        let f = t * (stops.len() - 1) as f64;
+        let i = (f.floor() as usize).min(stops.len() - 2);
+        let w = f - i as f64;
+        let mix = |a: u8, b: u8| (a as f64 + w * (b as f64 - a as f64)).round() as u8;
+        [
+            mix(stops[i][0], stops[i + 1][0]),
+            mix(stops[i][1], stops[i + 1][1]),
+            mix(stops[i][2], stops[i + 1][2]),
+        ]
+    }
+
+    /// The usual map and range for a set of values: diverging and symmetric
+    /// when they straddle zero, sequential otherwise (2nd–98th percentiles).
+    pub fn choose(values: &[f64]) -> (ColourMap, f64, f64) {
+        let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+        if v.is_empty() {
+            return (ColourMap::Viridis, 0.0, 1.0);
+        }
+        v.sort_by(|a, b| a.total_cmp(b));
+        let q = |p: f64| v[((v.len() - 1) as f64 * p).round() as usize];
+        let (lo, hi) = (q(0.02), q(0.98));
+        if lo < 0.0 && hi > 0.0 {
+            let m = lo.abs().max(hi.abs());
+            (ColourMap::Diverging, -m, m)
+        } else if hi > lo {
+            (ColourMap::Viridis, lo, hi)
+        } else {
+            (ColourMap::Viridis, lo - 0.5, lo + 0.5)
+        }
+    }
+}
+
+/// Horizontal anchor of a text.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Anchor {
+    Start,
+    Middle,
+    End,
+}
+
+/// One shape of a figure, in pixel coordinates (origin top left).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Shape {
+    Rect {
+        x: f64,
+        y: f64,
+        w: f64,
+        h: f64,
+        fill: Rgb,
+    },
+    Line {
+        points: Vec<[f64; 2]>,
+        colour: Rgb,
+        width: f64,
+    },
+    Text {
+        x: f64,
+        y: f64,
+        size: f64,
+        anchor: Anchor,
+        text: String,
+        colour: Rgb,
+    },
+}
+
+/// A figure: a size and its shapes, in drawing order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Figure {
+    pub width: u32,
+    pub height: u32,
+    pub shapes: Vec<Shape>,
+}
+
+fn svg_escape(s: &str) -> String {
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+}
+
+fn hex(c: Rgb) -> String {
+    format!("#{:02x}{:02x}{:02x}", c[0], c[1], c[2])
+}
+
+impl Figure {
+    pub fn new(width: u32, height: u32) -> Figure {
+        Figure {
+            width,
+            height,
+            shapes: vec![Shape::Rect {
+                x: 0.0,
+                y: 0.0,
+                w: width as f64,
+                h: height as f64,
+                fill: [255, 255, 255],
+            }],
+        }
+    }
+
+    pub fn text(&mut self, x: f64, y: f64, size: f64, anchor: Anchor, text: impl Into<String>) {
+        self.shapes.push(Shape::Text {
+            x,
+            y,
+            size,
+            anchor,
+            text: text.into(),
+            colour: [30, 30, 30],
+        });
+    }
+
+    pub fn line(&mut self, points: Vec<[f64; 2]>, colour: Rgb, width: f64) {
+        self.shapes.push(Shape::Line {
+            points,
+            colour,
+            width,
+        });
+    }
+
+    pub fn rect(&mut self, x: f64, y: f64, w: f64, h: f64, fill: Rgb) {
+        self.shapes.push(Shape::Rect { x, y, w, h, fill });
+    }
+
+    /// The figure as SVG text.
+    pub fn svg(&self) -> String {
+        let mut s = format!("<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"{}\" height=\"{}\" viewBox=\"0 0 {} {}\" font-family=\"DejaVu Sans, sans-serif\">\n", self.width, self.height, self.width, self.height);
+        for sh in &self.shapes {
+            match sh {
+                Shape::Rect { x, y, w, h, fill } => s.push_str(&format!("<rect x=\"{x:.2}\" y=\"{y:.2}\" width=\"{w:.2}\" height=\"{h:.2}\" fill=\"{}\"/>\n", hex(*fill))),
+                Shape::Line { points, colour, width } => {
+                    let pts: Vec<String> = points.iter().map(|p| format!("{:.2},{:.2}", p[0], p[1])).collect();
+                    s.push_str(&format!("<polyline points=\"{}\" fill=\"none\" stroke=\"{}\" stroke-width=\"{width}\"/>\n", pts.join(" "), hex(*colour)));
+                }
+                Shape::Text { x, y, size, anchor, text, colour } => {
+                    let a = match anchor {
+                        Anchor::Start => "start",
+                        Anchor::Middle => "middle",
+                        Anchor::End => "end",
+                    };
+                    s.push_str(&format!("<text x=\"{x:.2}\" y=\"{y:.2}\" font-size=\"{size}\" text-anchor=\"{a}\" fill=\"{}\">{}</text>\n", hex(*colour), svg_escape(text)));
+                }
+            }
+        }
+        s.push_str("</svg>\n");
+        s
+    }
+
+    /// The figure rasterised (RGB, row-major from the top).
+    pub fn raster(&self) -> Vec<u8> {
+        let (w, h) = (self.width as usize, self.height as usize);
+        let mut px = vec![255u8; w * h * 3];
+        let font = FontRef::try_from_slice(FONT).ok();
+        let blend = |px: &mut [u8], x: i64, y: i64, c: Rgb, a: f64| {
+            if x < 0 || y < 0 || x as usize >= w || y as usize >= h || a <= 0.0 {
+                return;
+            }
+            let i = (y as usize * w + x as usize) * 3;
+            let a = a.min(1.0);
+            for q in 0..3 {
+                px[i + q] = (px[i + q] as f64 * (1.0 - a) + c[q] as f64 * a).round() as u8;
+            }
+        };
+        for sh in &self.shapes {
+            match sh {
+                Shape::Rect {
+                    x,
+                    y,
+                    w: rw,
+                    h: rh,
+                    fill,
+                } => {
+                    let (x0, y0) = (x.round() as i64, y.round() as i64);
+                    let (x1, y1) = ((x + rw).round() as i64, (y + rh).round() as i64);
+                    for yy in y0.max(0)..y1.min(h as i64) {
+                        for xx in x0.max(0)..x1.min(w as i64) {
+                            blend(&mut px, xx, yy, *fill, 1.0);
+                        }
+                    }
+                }
+                Shape::Line {
+                    points,
+                    colour,
+                    width,
+                } => {
+                    let r = (0.5 * width).max(0.5);
+                    for seg in points.windows(2) {
+                        let ([ax, ay], [bx, by]) = (seg[0], seg[1]);
+                        let len = (bx - ax).hypot(by - ay).max(1e-9);
+                        let n = (len * 2.0).ceil() as usize + 1;
+                        for k in 0..=n {
+                            let t = k as f64 / n as f64;
+                            let (cx, cy) = (ax + t * (bx - ax), ay + t * (by - ay));
+                            let ri = r.ceil() as i64;
+                            for dy in -ri..=ri {
+                                for dx in -ri..=ri {
+                                    let (px_, py_) =
+                                        (cx.round() as i64 + dx, cy.round() as i64 + dy);
+                                    let d = ((px_ as f64 - cx).powi(2) + (py_ as f64 - cy).powi(2))
+                                        .sqrt();
+                                    if d <= r + 0.5 {
+                                        blend(&mut px, px_, py_, *colour, (r + 0.5 - d).min(1.0));
+                                    }
+                                }
+                            }
+                        }
+                    }
+                }
+                Shape::Text {
+                    x,
+                    y,
+                    size,
+                    anchor,
+                    text,
+                    colour,
+                } => {
+                    let Some(font) = &font else { continue };
+                    let scaled = font.as_scaled(PxScale::from(*size as f32 * 1.2));
+                    let width: f32 = text
+                        .chars()
+                        .map(|c| scaled.h_advance(font.glyph_id(c)))
+                        .sum();
+                    let mut pen = *x as f32
+                        - match anchor {
+                            Anchor::Start => 0.0,
+                            Anchor::Middle => 0.5 * width,
+                            Anchor::End => width,
+                        };
+                    for c in text.chars() {
+                        let id = font.glyph_id(c);
+                        let g = id.with_scale_and_position(
+                            scaled.scale(),
+                            ab_glyph::point(pen, *y as f32),
+                        );
+                        pen += scaled.h_advance(id);
+                        if let Some(o) = font.outline_glyph(g) {
+                            let b = o.px_bounds();
+                            o.draw(|gx, gy, cov| {
+                                blend(
+                                    &mut px,
+                                    b.min.x as i64 + gx as i64,
+                                    b.min.y as i64 + gy as i64,
+                                    *colour,
+                                    cov as f64,
+                                );
+                            });
+                        }
+                    }
+                }
+            }
+        }
+        px
+    }
+
+    /// The figure as PNG bytes.
+    pub fn png(&self) -> Vec<u8> {
+        let mut out = Vec::new();
+        {
+            let mut enc = png::Encoder::new(&mut out, self.width, self.height);
+            enc.set_color(png::ColorType::Rgb);
+            enc.set_depth(png::BitDepth::Eight);
+            if let Ok(mut w) = enc.write_header() {
+                let _ = w.write_image_data(&self.raster());
+            }
+        }
+        out
+    }
+}
+
+/// Round tick values covering [lo, hi], about `n` of them.
+pub fn ticks(lo: f64, hi: f64, n: usize) -> Vec<f64> {
+    if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater)
+        || !lo.is_finite()
+        || !hi.is_finite()
+    {
+        return vec![lo];
+    }
+    let raw = (hi - lo) / n.max(1) as f64;
+    let mag = 10f64.powf(raw.log10().floor());
+    let step = [1.0, 2.0, 2.5, 5.0, 10.0]
+        .iter()
+        .map(|m| m * mag)
+        .find(|s| *s >= raw)
+        .unwrap_or(10.0 * mag);
+    let k0 = (lo / step - 1e-9).ceil() as i64;
+    let k1 = (hi / step + 1e-9).floor() as i64;
+    // Round away the binary noise of k·step to the decimals the step has.
+    let decimals = (-(step.log10().floor()) as i32 + 1).max(0);
+    let unit = 10f64.powi(decimals);
+    (k0..=k1)
+        .map(|k| ((k as f64 * step) * unit).round() / unit + 0.0)
+        .collect()
+}
+
+fn label(v: f64) -> String {
+    let a = v.abs();
+    if a == 0.0 {
+        "0".into()
+    } else if a >= 1000.0 {
+        format!("{v:.0}")
+    } else if a >= 1.0 {
+        format!("{v:.1}").trim_end_matches(".0").to_string()
+    } else {
+        let s = format!("{v:.3}");
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    }
+}
+
+/// Plot frame: pixel box and data ranges.
+pub struct Frame {
+    pub px: [f64; 4], // left, top, right, bottom
+    pub x: [f64; 2],
+    pub y: [f64; 2],
+}
+
+impl Frame {
+    pub fn to_px(&self, x: f64, y: f64) -> [f64; 2] {
+        let [l, t, r, b] = self.px;
+        [
+            l + (x - self.x[0]) / (self.x[1] - self.x[0]) * (r - l),
+            b - (y - self.y[0]) / (self.y[1] - self.y[0]) * (b - t),
+        ]
+    }
+}
+
+fn axes(f: &mut Figure, fr: &Frame, xlabel: &str, ylabel: &str) {
+    let [l, t, r, b] = fr.px;
+    let dark = [60, 60, 60];
+    f.line(vec![[l, t], [r, t], [r, b], [l, b], [l, t]], dark, 1.0);
+    for v in ticks(fr.x[0], fr.x[1], 6) {
+        let p = fr.to_px(v, fr.y[0]);
+        f.line(vec![[p[0], b], [p[0], b + 5.0]], dark, 1.0);
+        f.text(p[0], b + 18.0, 11.0, Anchor::Middle, label(v));
+    }
+    for v in ticks(fr.y[0], fr.y[1], 5) {
+        let p = fr.to_px(fr.x[0], v);
+        f.line(vec![[l - 5.0, p[1]], [l, p[1]]], dark, 1.0);
+        f.text(l - 8.0, p[1] + 4.0, 11.0, Anchor::End, label(v));
+    }
+    f.text(0.5 * (l + r), b + 36.0, 12.0, Anchor::Middle, xlabel);
+    f.text(12.0, t - 10.0, 12.0, Anchor::Start, ylabel);
+}
+
+#[allow(clippy::too_many_arguments)]
+fn colour_bar(
+    f: &mut Figure,
+    x: f64,
+    top: f64,
+    bottom: f64,
+    map: ColourMap,
+    lo: f64,
+    hi: f64,
+    units: &str,
+) {
+    let n = 64;
+    let h = (bottom - top) / n as f64;
+    for k in 0..n {
+        let t = (k as f64 + 0.5) / n as f64;
+        f.rect(x, bottom - (k + 1) as f64 * h, 16.0, h + 0.6, map.at(t));
+    }
+    f.line(
+        vec![
+            [x, top],
+            [x + 16.0, top],
+            [x + 16.0, bottom],
+            [x, bottom],
+            [x, top],
+        ],
+        [60, 60, 60],
+        1.0,
+    );
+    for v in ticks(lo, hi, 5) {
+        let y = bottom - (v - lo) / (hi - lo) * (bottom - top);
+        f.line(vec![[x + 16.0, y], [x + 20.0, y]], [60, 60, 60], 1.0);
+        f.text(x + 23.0, y + 4.0, 11.0, Anchor::Start, label(v));
+    }
+    f.text(x, top - 10.0, 11.0, Anchor::Start, units);
+}
+
+/// The caution every model figure carries.
+pub const FIGURE_CAUTION: &str = "Models are non-unique: one of many that fit the data. Reporting follows local codes and a qualified person.";
+
+/// A section figure: cells as coloured rectangles (distance along the line ×
+/// elevation), the terrain line, axes, colour bar and caution.
+pub fn section_figure(
+    samples: &[crate::export::section::SectionSample],
+    layer_tops: &[f64],
+    terrain: &[[f64; 2]],
+    title: &str,
+    units: &str,
+) -> Figure {
+    let mut f = Figure::new(1000, 560);
+    let vals: Vec<f64> = samples.iter().map(|s| s.value).collect();
+    let (map, lo, hi) = ColourMap::choose(&vals);
+    let dmax = samples.iter().map(|s| s.distance_m).fold(0.0, f64::max);
+    let zmin = layer_tops.first().copied().unwrap_or(0.0);
+    let zmax = terrain
+        .iter()
+        .map(|t| t[1])
+        .fold(f64::NEG_INFINITY, f64::max)
+        .max(layer_tops.last().copied().unwrap_or(1.0));
+    let fr = Frame {
+        px: [80.0, 50.0, 880.0, 480.0],
+        x: [0.0, dmax.max(1.0)],
+        y: [zmin, zmax + 0.02 * (zmax - zmin)],
+    };
+    f.text(80.0, 28.0, 15.0, Anchor::Start, title);
+    // Samples sit at cell centres; each is drawn as the cell column between
+    // half-way points along the line and its layer bounds.
+    let dists: Vec<f64> = {
+        let mut d: Vec<f64> = samples.iter().map(|s| s.distance_m).collect();
+        d.sort_by(|a, b| a.total_cmp(b));
+        d.dedup();
+        d
+    };
+    let half = |i: usize| -> (f64, f64) {
+        let a = if i == 0 {
+            dists[0]
+        } else {
+            0.5 * (dists[i - 1] + dists[i])
+        };
+        let b = if i + 1 == dists.len() {
+            dists[i]
+        } else {
+            0.5 * (dists[i] + dists[i + 1])
+        };
+        (a, b)
+    };
+    for s in samples {
+        if !s.value.is_finite() {
+            continue;
+        }
+        let i = dists.partition_point(|d| *d < s.distance_m);
+        let (a, b) = half(i.min(dists.len() - 1));
+        let k = layer_tops.partition_point(|z| *z < s.elevation_m);
+        if k == 0 || k >= layer_tops.len() {
+            continue;
+        }
+        let (z0, z1) = (layer_tops[k - 1], layer_tops[k]);
+        let p0 = fr.to_px(a, z1);
+        let p1 = fr.to_px(b, z0);
+        f.rect(
+            p0[0],
+            p0[1],
+            (p1[0] - p0[0]).max(1.0),
+            (p1[1] - p0[1]).max(1.0),
+            map.at((s.value - lo) / (hi - lo)),
+        );
+    }
+    if terrain.len() > 1 {
+        let pts = terrain.iter().map(|t| fr.to_px(t[0], t[1])).collect();
+        f.line(pts, [20, 20, 20], 2.0);
+    }
+    axes(
+        &mut f,
+        &fr,
+        "distance along the section (m)",
+        "elevation (m)",
+    );
+    colour_bar(&mut f, 900.0, 70.0, 460.0, map, lo, hi, units);
+    f.text(80.0, 548.0, 11.0, Anchor::Start, FIGURE_CAUTION);
+    f
+}
+
+/// A plan map of a grid: nodes as coloured cells, axes in map coordinates,
+/// colour bar, scale bar, north arrow and caution.
+pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
+    let mut f = Figure::new(900, 760);
+    let (map, lo, hi) = ColourMap::choose(&g.values);
+    let (x0, x1, y0, y1) = g.extent();
+    let (w, h) = ((x1 - x0).max(g.dx), (y1 - y0).max(g.dy));
+    // Equal scale on both axes inside a 680 × 620 box.
+    let s = (680.0 / w).min(620.0 / h);
+    let (pw, ph) = (w * s, h * s);
+    let fr = Frame {
+        px: [90.0, 60.0, 90.0 + pw, 60.0 + ph],
+        x: [x0, x0 + w],
+        y: [y0, y0 + h],
+    };
+    f.text(90.0, 30.0, 15.0, Anchor::Start, title);
+    for j in 0..g.ny {
+        for i in 0..g.nx {
+            let v = g.values[i + g.nx * j];
+            if !v.is_finite() {
+                continue;
+            }
+            let p = fr.to_px(g.x_of(i) - 0.5 * g.dx, g.y_of(j) + 0.5 * g.dy);
+            f.rect(
+                p[0],
+                p[1],
+                g.dx * s + 0.6,
+                g.dy * s + 0.6,
+                map.at((v - lo) / (hi - lo)),
+            );
+        }
+    }
+    axes(&mut f, &fr, "easting (m)", "northing (m)");
+    colour_bar(
+        &mut f,
+        fr.px[2] + 30.0,
+        80.0,
+        60.0 + ph.min(400.0),
+        map,
+        lo,
+        hi,
+        units,
+    );
+    // Scale bar: a round length near a fifth of the width.
+    let len = ticks(0.0, 0.25 * w, 1).get(1).copied().unwrap_or(0.2 * w);
+    let (bx, by) = (fr.px[0] + 10.0, fr.px[3] - 14.0);
+    f.rect(bx - 4.0, by - 16.0, len * s + 8.0, 24.0, [255, 255, 255]);
+    f.line(vec![[bx, by], [bx + len * s, by]], [0, 0, 0], 3.0);
+    f.text(
+        bx + 0.5 * len * s,
+        by - 4.0,
+        11.0,
+        Anchor::Middle,
+        format!("{} m", label(len)),
+    );
+    // North arrow.
+    let (nx, ny) = (fr.px[2] - 24.0, fr.px[1] + 50.0);
+    f.line(vec![[nx, ny], [nx, ny - 32.0]], [0, 0, 0], 2.0);
+    f.line(
+        vec![
+            [nx - 7.0, ny - 22.0],
+            [nx, ny - 34.0],
+            [nx + 7.0, ny - 22.0],
+        ],
+        [0, 0, 0],
+        2.0,
+    );
+    f.text(nx, ny + 14.0, 12.0, Anchor::Middle, "N");
+    let epsg = g
+        .epsg
+        .map(|c| format!("EPSG:{c}"))
+        .unwrap_or_else(|| "coordinate reference unknown".into());
+    f.text(
+        90.0,
+        fr.px[3] + 56.0,
+        11.0,
+        Anchor::Start,
+        format!("{epsg}; {}", g.note),
+    );
+    f.text(90.0, fr.px[3] + 74.0, 11.0, Anchor::Start, FIGURE_CAUTION);
+    f.height = (fr.px[3] + 90.0) as u32;
+    if let Some(Shape::Rect { h, .. }) = f.shapes.first_mut() {
+        *h = f.height as f64;
+    }
+    f
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn ticks_are_round_and_cover_the_range() {
+        assert_eq!(
+            ticks(0.0, 1000.0, 5),
+            vec![0.0, 200.0, 400.0, 600.0, 800.0, 1000.0]
+        );
+        assert_eq!(
+            ticks(-0.3, 0.3, 6),
+            vec![-0.3, -0.2, -0.1, 0.0, 0.1, 0.2, 0.3]
+        );
+        assert_eq!(label(0.05), "0.05");
+        assert_eq!(label(250.0), "250");
+    }
+
+    #[test]
+    fn colour_maps_run_from_end_to_end_and_diverge_around_zero() {
+        assert_eq!(ColourMap::Viridis.at(0.0), VIRIDIS[0]);
+        assert_eq!(ColourMap::Viridis.at(1.0), VIRIDIS[9]);
+        assert_eq!(ColourMap::Diverging.at(0.5), [0xf7, 0xf7, 0xf7]);
+        let (m, lo, hi) = ColourMap::choose(&[-1.0, 0.5, 2.0]);
+        assert_eq!(m, ColourMap::Diverging);
+        assert_eq!(lo, -hi);
+        // Viridis lightness rises monotonically (Rec. 709 luma as a proxy).
+        let luma = |c: Rgb| 0.2126 * c[0] as f64 + 0.7152 * c[1] as f64 + 0.0722 * c[2] as f64;
+        for k in 0..20 {
+            assert!(
+                luma(ColourMap::Viridis.at(k as f64 / 20.0))
+                    < luma(ColourMap::Viridis.at((k + 1) as f64 / 20.0))
+            );
+        }
+    }
+
+    #[test]
+    fn png_and_svg_hold_the_drawn_shapes() {
+        let mut f = Figure::new(40, 20);
+        f.rect(10.0, 5.0, 10.0, 10.0, [255, 0, 0]);
+        f.text(2.0, 18.0, 10.0, Anchor::Start, "A&B");
+        let r = f.raster();
+        let at = |x: usize, y: usize| {
+            [
+                r[(y * 40 + x) * 3],
+                r[(y * 40 + x) * 3 + 1],
+                r[(y * 40 + x) * 3 + 2],
+            ]
+        };
+        assert_eq!(at(15, 10), [255, 0, 0]);
+        assert_eq!(at(35, 2), [255, 255, 255]);
+        // Text left ink in its box.
+        assert!((0..40).any(|x| (12..18).any(|y| at(x, y)[0] < 200)));
+        let png = f.png();
+        assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
+        let dec = png::Decoder::new(std::io::Cursor::new(png));
+        let mut rd = dec.read_info().unwrap();
+        let mut buf = vec![0; rd.output_buffer_size()];
+        rd.next_frame(&mut buf).unwrap();
+        assert_eq!(buf, r);
+        let svg = f.svg();
+        assert!(svg.contains("fill=\"#ff0000\"") && svg.contains("A&amp;B"));
+    }
+}
