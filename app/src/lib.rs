@@ -3,3 +3,4 @@
 
 pub mod commands;
 pub mod pipeline;
+pub mod window;

@@ -52,12 +52,7 @@ fn main() -> ExitCode {
         Some(Command::Reduce(cmd)) => commands::reduce::run(&cmd),
         Some(Command::Demo(args)) => commands::demo::run(&args),
         Some(Command::Run(args)) => commands::run::run(&args),
-        None => {
-            use clap::CommandFactory;
-            let _ = cli.project;
-            let _ = Cli::command().print_help();
-            Ok(())
-        }
+        None => fieldstone::window::open(cli.project.as_deref()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

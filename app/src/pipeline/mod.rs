@@ -9,6 +9,7 @@
 //! every step, so an interrupted run loses at most the step in progress.
 
 mod data;
+pub use data::write_text;
 mod steps;
 
 pub use data::{load_points, Points};
@@ -25,6 +26,8 @@ use std::path::{Path, PathBuf};
 /// Which scenarios to run.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Selection {
+    /// Only the shared steps (import to mesh).
+    None,
     /// The first scenario of the project.
     First,
     Named(String),
@@ -325,6 +328,7 @@ pub fn run(
     let mut p = loaded.project;
     let scenarios: Vec<Scenario> = match which {
         Selection::All => p.scenarios.clone(),
+        Selection::None => vec![],
         Selection::First => p.scenarios.first().cloned().into_iter().collect(),
         Selection::Named(n) => vec![p
             .scenarios

@@ -20,6 +20,8 @@ pub enum ColourMap {
     /// Blue–white–red (ColorBrewer RdBu, Brewer 2002), negative blue; values
     /// from memory of the 11-class scheme.
     Diverging,
+    /// Black to white (for shaded terrain under other layers).
+    Grey,
 }
 
 const VIRIDIS: [Rgb; 10] = [
@@ -54,6 +56,7 @@ impl ColourMap {
         let stops: &[Rgb] = match self {
             ColourMap::Viridis => &VIRIDIS,
             ColourMap::Diverging => &RDBU,
+            ColourMap::Grey => &[[40, 40, 40], [235, 235, 235]],
         };
         let t = if t.is_finite() {
             t.clamp(0.0, 1.0)
@@ -327,6 +330,19 @@ impl Figure {
     }
 }
 
+/// The largest round length (1, 2 or 5 × 10ⁿ) not above `v` (scale bars).
+pub fn round_below(v: f64) -> f64 {
+    if !(v.is_finite() && v > 0.0) {
+        return 1.0;
+    }
+    let mag = 10f64.powf(v.log10().floor());
+    [5.0, 2.0, 1.0]
+        .iter()
+        .map(|m| m * mag)
+        .find(|s| *s <= v)
+        .unwrap_or(mag)
+}
+
 /// Round tick values covering [lo, hi], about `n` of them.
 pub fn ticks(lo: f64, hi: f64, n: usize) -> Vec<f64> {
     if hi.partial_cmp(&lo) != Some(std::cmp::Ordering::Greater)
@@ -566,7 +582,7 @@ pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
         units,
     );
     // Scale bar: a round length near a fifth of the width.
-    let len = ticks(0.0, 0.25 * w, 1).get(1).copied().unwrap_or(0.2 * w);
+    let len = round_below(0.25 * w);
     let (bx, by) = (fr.px[0] + 10.0, fr.px[3] - 14.0);
     f.rect(bx - 4.0, by - 16.0, len * s + 8.0, 24.0, [255, 255, 255]);
     f.line(vec![[bx, by], [bx + len * s, by]], [0, 0, 0], 3.0);
@@ -625,6 +641,8 @@ mod tests {
         );
         assert_eq!(label(0.05), "0.05");
         assert_eq!(label(250.0), "250");
+        assert_eq!(round_below(437.4), 200.0);
+        assert_eq!(round_below(0.6), 0.5);
     }
 
     #[test]

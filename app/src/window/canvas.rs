@@ -1,0 +1,500 @@
+//! Drawing: the map (grids as images, points, lines, collars, scale bar,
+//! north arrow, colour bar) and the section view, with pan, zoom and the
+//! cursor position in map coordinates.
+
+use egui::{
+    Color32, ColorImage, Pos2, Rect, Sense, Stroke, TextureHandle, TextureOptions, Ui, Vec2,
+};
+use fieldstone_core::export::figure::{round_below, ticks, ColourMap};
+use fieldstone_core::export::section::SectionSample;
+use fieldstone_core::grid::Grid2;
+use std::collections::HashMap;
+
+/// How values become colours.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Colouring {
+    pub map: ColourMap,
+    pub lo: f64,
+    pub hi: f64,
+    /// Histogram equalisation: colour by rank among these sorted values.
+    pub equalised: Option<Vec<f64>>,
+}
+
+impl Colouring {
+    pub fn for_values(values: &[f64], equalise: bool) -> Colouring {
+        let (map, lo, hi) = ColourMap::choose(values);
+        let equalised = equalise.then(|| {
+            let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+            v.sort_by(|a, b| a.total_cmp(b));
+            v
+        });
+        Colouring {
+            map,
+            lo,
+            hi,
+            equalised,
+        }
+    }
+    pub fn t(&self, v: f64) -> f64 {
+        match &self.equalised {
+            Some(s) if !s.is_empty() => s.partition_point(|x| *x < v) as f64 / s.len() as f64,
+            _ => (v - self.lo) / (self.hi - self.lo),
+        }
+    }
+    pub fn colour(&self, v: f64) -> Color32 {
+        let c = self.map.at(self.t(v));
+        Color32::from_rgb(c[0], c[1], c[2])
+    }
+}
+
+/// Pan and zoom of a map.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MapFrame {
+    pub centre: [f64; 2],
+    /// Metres per screen point.
+    pub scale: f64,
+    pub fitted: bool,
+}
+
+impl Default for MapFrame {
+    fn default() -> Self {
+        MapFrame {
+            centre: [0.0, 0.0],
+            scale: 1.0,
+            fitted: false,
+        }
+    }
+}
+
+impl MapFrame {
+    pub fn fit(&mut self, extent: [f64; 4], rect: Rect) {
+        let [x0, x1, y0, y1] = extent;
+        self.centre = [0.5 * (x0 + x1), 0.5 * (y0 + y1)];
+        self.scale = ((x1 - x0) / rect.width().max(1.0) as f64)
+            .max((y1 - y0) / rect.height().max(1.0) as f64)
+            * 1.08;
+        if !(self.scale.is_finite() && self.scale > 0.0) {
+            self.scale = 1.0;
+        }
+        self.fitted = true;
+    }
+    pub fn to_screen(self, rect: Rect, p: [f64; 2]) -> Pos2 {
+        let c = rect.center();
+        Pos2::new(
+            c.x + ((p[0] - self.centre[0]) / self.scale) as f32,
+            c.y - ((p[1] - self.centre[1]) / self.scale) as f32,
+        )
+    }
+    pub fn to_world(self, rect: Rect, p: Pos2) -> [f64; 2] {
+        let c = rect.center();
+        [
+            self.centre[0] + (p.x - c.x) as f64 * self.scale,
+            self.centre[1] - (p.y - c.y) as f64 * self.scale,
+        ]
+    }
+}
+
+/// A grid drawn as an image, cached by key.
+pub struct GridLayer<'a> {
+    pub key: String,
+    pub grid: &'a Grid2,
+    pub colouring: Colouring,
+    pub hillshade: bool,
+}
+
+/// What the map shows.
+#[derive(Default)]
+pub struct MapLayers<'a> {
+    pub grid: Option<GridLayer<'a>>,
+    /// Points with their values (None: drawn plain).
+    pub points: Vec<([f64; 2], Option<f64>)>,
+    pub point_colouring: Option<Colouring>,
+    pub highlight: Vec<[f64; 2]>,
+    pub lines: Vec<(Vec<[f64; 2]>, Color32, bool)>,
+    pub collars: Vec<([f64; 2], String)>,
+    pub units: String,
+}
+
+/// What happened on the map this frame.
+#[derive(Default, Debug, Clone, Copy)]
+pub struct MapResponse {
+    pub hover: Option<[f64; 2]>,
+    pub clicked: Option<[f64; 2]>,
+    pub double_clicked: bool,
+}
+
+/// Texture cache of grid images.
+#[derive(Default)]
+pub struct Textures {
+    map: HashMap<String, TextureHandle>,
+}
+
+fn grid_image(g: &Grid2, c: &Colouring, hillshade: bool) -> ColorImage {
+    let mut img = ColorImage::new([g.nx, g.ny], vec![Color32::TRANSPARENT; g.nx * g.ny]);
+    let v = |i: usize, j: usize| g.values[i + g.nx * j];
+    for j in 0..g.ny {
+        for i in 0..g.nx {
+            let z = v(i, j);
+            if !z.is_finite() {
+                continue;
+            }
+            let mut col = c.colour(z);
+            if hillshade {
+                // Sun from the north-west, 45° up (common practice).
+                let dzdx = (v((i + 1).min(g.nx - 1), j) - v(i.saturating_sub(1), j)) / (2.0 * g.dx);
+                let dzdy = (v(i, (j + 1).min(g.ny - 1)) - v(i, j.saturating_sub(1))) / (2.0 * g.dy);
+                let (dzdx, dzdy) = (
+                    if dzdx.is_finite() { dzdx } else { 0.0 },
+                    if dzdy.is_finite() { dzdy } else { 0.0 },
+                );
+                let k = 4.0 / (c.hi - c.lo).abs().max(1e-12) * g.dx.max(g.dy) * 10.0;
+                let n = [-dzdx * k, -dzdy * k, 1.0];
+                let len = (n[0] * n[0] + n[1] * n[1] + 1.0f64).sqrt();
+                let sun = [-0.5, 0.5, std::f64::consts::FRAC_1_SQRT_2];
+                let shade = ((n[0] * sun[0] + n[1] * sun[1] + n[2] * sun[2]) / len).clamp(0.0, 1.0);
+                let f = (0.45 + 0.75 * shade) as f32;
+                col = Color32::from_rgb(
+                    (col.r() as f32 * f).min(255.0) as u8,
+                    (col.g() as f32 * f).min(255.0) as u8,
+                    (col.b() as f32 * f).min(255.0) as u8,
+                );
+            }
+            // Image row 0 is the north edge.
+            img.pixels[i + g.nx * (g.ny - 1 - j)] = col;
+        }
+    }
+    img
+}
+
+/// Draws a vertical colour bar with ticks at the right of `rect`.
+pub fn colour_bar(ui: &Ui, rect: Rect, c: &Colouring, units: &str) {
+    let p = ui.painter();
+    let bar = Rect::from_min_size(
+        Pos2::new(rect.right() - 84.0, rect.top() + 34.0),
+        Vec2::new(14.0, (rect.height() - 80.0).clamp(60.0, 260.0)),
+    );
+    p.rect_filled(
+        bar.expand2(Vec2::new(4.0, 22.0))
+            .translate(Vec2::new(22.0, 4.0)),
+        3.0,
+        Color32::from_white_alpha(210),
+    );
+    let n = 48;
+    for k in 0..n {
+        let t = (k as f64 + 0.5) / n as f64;
+        let col = c.map.at(t);
+        let y0 = bar.bottom() - (k + 1) as f32 * bar.height() / n as f32;
+        p.rect_filled(
+            Rect::from_min_size(
+                Pos2::new(bar.left(), y0),
+                Vec2::new(bar.width(), bar.height() / n as f32 + 0.5),
+            ),
+            0.0,
+            Color32::from_rgb(col[0], col[1], col[2]),
+        );
+    }
+    let font = egui::FontId::proportional(11.0);
+    if c.equalised.is_some() {
+        p.text(
+            Pos2::new(bar.right() + 4.0, bar.top()),
+            egui::Align2::LEFT_CENTER,
+            "high",
+            font.clone(),
+            Color32::BLACK,
+        );
+        p.text(
+            Pos2::new(bar.right() + 4.0, bar.bottom()),
+            egui::Align2::LEFT_CENTER,
+            "low",
+            font.clone(),
+            Color32::BLACK,
+        );
+        p.text(
+            Pos2::new(bar.left(), bar.bottom() + 12.0),
+            egui::Align2::LEFT_CENTER,
+            "equalised",
+            font.clone(),
+            Color32::DARK_GRAY,
+        );
+    } else {
+        for v in ticks(c.lo, c.hi, 5) {
+            let y = bar.bottom() - ((v - c.lo) / (c.hi - c.lo)) as f32 * bar.height();
+            p.text(
+                Pos2::new(bar.right() + 4.0, y),
+                egui::Align2::LEFT_CENTER,
+                format!("{}", (v * 1e6).round() / 1e6),
+                font.clone(),
+                Color32::BLACK,
+            );
+        }
+    }
+    p.text(
+        Pos2::new(bar.left(), bar.top() - 10.0),
+        egui::Align2::LEFT_CENTER,
+        units,
+        font,
+        Color32::BLACK,
+    );
+}
+
+/// Shows the map in the remaining space.
+pub fn map(
+    ui: &mut Ui,
+    frame: &mut MapFrame,
+    textures: &mut Textures,
+    layers: &MapLayers,
+    extent: Option<[f64; 4]>,
+) -> MapResponse {
+    let (rect, resp) = ui.allocate_exact_size(ui.available_size(), Sense::click_and_drag());
+    if !frame.fitted {
+        if let Some(e) = extent {
+            frame.fit(e, rect);
+        }
+    }
+    if resp.dragged() {
+        let d = resp.drag_delta();
+        frame.centre[0] -= d.x as f64 * frame.scale;
+        frame.centre[1] += d.y as f64 * frame.scale;
+    }
+    let mut out = MapResponse::default();
+    if let Some(h) = resp.hover_pos() {
+        let zoom = ui.input(|i| i.zoom_delta()) as f64
+            * (1.0 + 0.0015 * ui.input(|i| i.smooth_scroll_delta.y) as f64);
+        if (zoom - 1.0).abs() > 1e-6 {
+            let before = frame.to_world(rect, h);
+            frame.scale /= zoom;
+            let after = frame.to_world(rect, h);
+            frame.centre[0] += before[0] - after[0];
+            frame.centre[1] += before[1] - after[1];
+        }
+        out.hover = Some(frame.to_world(rect, h));
+    }
+    if resp.clicked() {
+        out.clicked = resp.interact_pointer_pos().map(|p| frame.to_world(rect, p));
+    }
+    out.double_clicked = resp.double_clicked();
+    let painter = ui.painter_at(rect);
+    painter.rect_filled(rect, 0.0, Color32::from_rgb(246, 245, 241));
+    if let Some(gl) = &layers.grid {
+        let key = format!(
+            "{}|{:?}|{}|{}|{}",
+            gl.key,
+            gl.colouring.map,
+            gl.colouring.lo,
+            gl.colouring.equalised.is_some(),
+            gl.hillshade
+        );
+        let tex = textures.map.entry(key).or_insert_with(|| {
+            ui.ctx().load_texture(
+                "grid",
+                grid_image(gl.grid, &gl.colouring, gl.hillshade),
+                TextureOptions::NEAREST,
+            )
+        });
+        let g = gl.grid;
+        let (x0, x1, y0, y1) = g.extent();
+        let a = frame.to_screen(rect, [x0 - 0.5 * g.dx, y1 + 0.5 * g.dy]);
+        let b = frame.to_screen(rect, [x1 + 0.5 * g.dx, y0 - 0.5 * g.dy]);
+        painter.image(
+            tex.id(),
+            Rect::from_two_pos(a, b),
+            Rect::from_min_max(Pos2::ZERO, Pos2::new(1.0, 1.0)),
+            Color32::WHITE,
+        );
+    }
+    for (pts, col, closed) in &layers.lines {
+        let mut s: Vec<Pos2> = pts.iter().map(|p| frame.to_screen(rect, *p)).collect();
+        if *closed && s.len() > 2 {
+            s.push(s[0]);
+        }
+        painter.add(egui::Shape::line(s, Stroke::new(2.0, *col)));
+    }
+    for (p, v) in &layers.points {
+        let col = match (v, &layers.point_colouring) {
+            (Some(v), Some(c)) if v.is_finite() => c.colour(*v),
+            _ => Color32::from_gray(60),
+        };
+        let q = frame.to_screen(rect, *p);
+        if rect.contains(q) {
+            painter.circle(q, 3.0, col, Stroke::new(0.5, Color32::from_gray(40)));
+        }
+    }
+    for p in &layers.highlight {
+        painter.circle_stroke(
+            frame.to_screen(rect, *p),
+            6.0,
+            Stroke::new(2.0, Color32::from_rgb(220, 30, 30)),
+        );
+    }
+    for (p, label) in &layers.collars {
+        let q = frame.to_screen(rect, *p);
+        painter.circle(q, 4.5, Color32::WHITE, Stroke::new(2.0, Color32::BLACK));
+        painter.text(
+            q + Vec2::new(7.0, -7.0),
+            egui::Align2::LEFT_BOTTOM,
+            label,
+            egui::FontId::proportional(11.0),
+            Color32::BLACK,
+        );
+    }
+    // Scale bar and north arrow.
+    let width_m = rect.width() as f64 * frame.scale;
+    let len = round_below(0.25 * width_m);
+    let px = (len / frame.scale) as f32;
+    let base = Pos2::new(rect.left() + 16.0, rect.bottom() - 18.0);
+    painter.rect_filled(
+        Rect::from_min_size(base - Vec2::new(6.0, 20.0), Vec2::new(px + 12.0, 28.0)),
+        3.0,
+        Color32::from_white_alpha(200),
+    );
+    painter.line_segment(
+        [base, base + Vec2::new(px, 0.0)],
+        Stroke::new(3.0, Color32::BLACK),
+    );
+    painter.text(
+        base + Vec2::new(px / 2.0, -5.0),
+        egui::Align2::CENTER_BOTTOM,
+        format!("{len} m"),
+        egui::FontId::proportional(11.0),
+        Color32::BLACK,
+    );
+    let n = Pos2::new(rect.left() + 24.0, rect.top() + 44.0);
+    painter.arrow(n, Vec2::new(0.0, -28.0), Stroke::new(2.0, Color32::BLACK));
+    painter.text(
+        n + Vec2::new(0.0, 4.0),
+        egui::Align2::CENTER_TOP,
+        "N",
+        egui::FontId::proportional(13.0),
+        Color32::BLACK,
+    );
+    if let Some(c) = layers
+        .point_colouring
+        .as_ref()
+        .or(layers.grid.as_ref().map(|g| &g.colouring))
+    {
+        colour_bar(ui, rect, c, &layers.units);
+    }
+    out
+}
+
+/// Shows a section (distance × elevation) in the remaining space; returns the
+/// hovered (distance, elevation, value).
+pub fn section(
+    ui: &mut Ui,
+    samples: &[SectionSample],
+    layer_tops: &[f64],
+    terrain: &[[f64; 2]],
+    c: &Colouring,
+    units: &str,
+    exaggeration: f64,
+) -> Option<(f64, f64, f64)> {
+    let (rect, resp) = ui.allocate_exact_size(ui.available_size(), Sense::hover());
+    let painter = ui.painter_at(rect);
+    painter.rect_filled(rect, 0.0, Color32::from_rgb(246, 245, 241));
+    if samples.is_empty() || layer_tops.len() < 2 {
+        painter.text(
+            rect.center(),
+            egui::Align2::CENTER_CENTER,
+            "no section: run a scenario first",
+            egui::FontId::proportional(14.0),
+            Color32::DARK_GRAY,
+        );
+        return None;
+    }
+    let dmax = samples
+        .iter()
+        .map(|s| s.distance_m)
+        .fold(0.0, f64::max)
+        .max(1.0);
+    let zmax = terrain
+        .iter()
+        .map(|t| t[1])
+        .fold(f64::NEG_INFINITY, f64::max)
+        .max(layer_tops[layer_tops.len() - 1]);
+    let zmin = layer_tops[0];
+    let inner = rect
+        .shrink2(Vec2::new(60.0, 24.0))
+        .translate(Vec2::new(-20.0, 0.0));
+    let sx = inner.width() as f64 / dmax;
+    let sz = (sx * exaggeration).min(inner.height() as f64 / (zmax - zmin).max(1.0));
+    let to = |d: f64, z: f64| {
+        Pos2::new(
+            inner.left() + (d * sx) as f32,
+            inner.top() + ((zmax - z) * sz) as f32,
+        )
+    };
+    let mut dists: Vec<f64> = samples.iter().map(|s| s.distance_m).collect();
+    dists.sort_by(|a, b| a.total_cmp(b));
+    dists.dedup();
+    let half = |i: usize| {
+        let a = if i == 0 {
+            dists[0]
+        } else {
+            0.5 * (dists[i - 1] + dists[i])
+        };
+        let b = if i + 1 == dists.len() {
+            dists[i]
+        } else {
+            0.5 * (dists[i] + dists[i + 1])
+        };
+        (a, b)
+    };
+    let mut hovered = None;
+    let hp = resp.hover_pos();
+    for s in samples {
+        if !s.value.is_finite() {
+            continue;
+        }
+        let i = dists
+            .partition_point(|d| *d < s.distance_m)
+            .min(dists.len() - 1);
+        let (a, b) = half(i);
+        let k = layer_tops.partition_point(|z| *z < s.elevation_m);
+        if k == 0 || k >= layer_tops.len() {
+            continue;
+        }
+        let r = Rect::from_two_pos(to(a, layer_tops[k]), to(b, layer_tops[k - 1]));
+        painter.rect_filled(r, 0.0, c.colour(s.value));
+        if hp.is_some_and(|h| r.contains(h)) {
+            hovered = Some((s.distance_m, s.elevation_m, s.value));
+        }
+    }
+    if terrain.len() > 1 {
+        painter.add(egui::Shape::line(
+            terrain.iter().map(|t| to(t[0], t[1])).collect(),
+            Stroke::new(2.0, Color32::BLACK),
+        ));
+    }
+    let font = egui::FontId::proportional(11.0);
+    for d in ticks(0.0, dmax, 6) {
+        let p = to(d, zmin);
+        painter.text(
+            p + Vec2::new(0.0, 4.0),
+            egui::Align2::CENTER_TOP,
+            format!("{d}"),
+            font.clone(),
+            Color32::BLACK,
+        );
+    }
+    for z in ticks(zmin, zmax, 5) {
+        let p = to(0.0, z);
+        painter.text(
+            p - Vec2::new(4.0, 0.0),
+            egui::Align2::RIGHT_CENTER,
+            format!("{z}"),
+            font.clone(),
+            Color32::BLACK,
+        );
+    }
+    painter.text(
+        Pos2::new(inner.left(), rect.top() + 4.0),
+        egui::Align2::LEFT_TOP,
+        format!(
+            "elevation (m), distance along the section (m); vertical exaggeration {exaggeration}×"
+        ),
+        font,
+        Color32::DARK_GRAY,
+    );
+    colour_bar(ui, rect, c, units);
+    hovered
+}

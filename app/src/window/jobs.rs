@@ -1,0 +1,132 @@
+//! Background work: one job at a time on its own thread, reporting log
+//! lines, inversion iterations and progress through a channel; cancellable.
+
+use fieldstone_core::invert::IterationRecord;
+use fieldstone_core::progress::Observer;
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::mpsc::{channel, Receiver, Sender};
+use std::sync::Arc;
+use std::time::Instant;
+
+/// What a job sends to the window.
+#[derive(Debug, Clone)]
+pub enum Event {
+    Line(String),
+    Iteration(IterationRecord),
+    Progress(usize, usize),
+    Finished(Result<String, String>),
+}
+
+struct Reporter {
+    tx: std::sync::Mutex<Sender<Event>>,
+    cancel: Arc<AtomicBool>,
+    ctx: Option<egui::Context>,
+}
+
+impl Reporter {
+    fn send(&self, e: Event) {
+        if let Ok(tx) = self.tx.lock() {
+            let _ = tx.send(e);
+        }
+        if let Some(c) = &self.ctx {
+            c.request_repaint();
+        }
+    }
+}
+
+impl Observer for Reporter {
+    fn progress(&self, done: usize, total: usize) {
+        self.send(Event::Progress(done, total));
+    }
+    fn message(&self, text: &str) {
+        self.send(Event::Line(text.to_string()));
+    }
+    fn iteration(&self, r: &IterationRecord) {
+        self.send(Event::Iteration(r.clone()));
+    }
+    fn cancelled(&self) -> bool {
+        self.cancel.load(Ordering::Relaxed)
+    }
+}
+
+/// A running (or finished) job.
+pub struct Job {
+    pub title: String,
+    pub started: Instant,
+    rx: Receiver<Event>,
+    cancel: Arc<AtomicBool>,
+    pub lines: Vec<String>,
+    pub iterations: Vec<IterationRecord>,
+    pub progress: Option<(usize, usize)>,
+    pub result: Option<Result<String, String>>,
+    handle: Option<std::thread::JoinHandle<()>>,
+}
+
+impl Job {
+    /// Starts `work` on a new thread.
+    pub fn start(
+        title: &str,
+        ctx: Option<egui::Context>,
+        work: impl FnOnce(&dyn Observer) -> Result<String, String> + Send + 'static,
+    ) -> Job {
+        let (tx, rx) = channel();
+        let cancel = Arc::new(AtomicBool::new(false));
+        let rep = Reporter {
+            tx: std::sync::Mutex::new(tx),
+            cancel: cancel.clone(),
+            ctx,
+        };
+        let handle = std::thread::spawn(move || {
+            let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| work(&rep)))
+                .unwrap_or_else(|_| Err("the job stopped on an internal error; the project on disk is as it was after the last finished step".into()));
+            rep.send(Event::Finished(r));
+        });
+        Job {
+            title: title.to_string(),
+            started: Instant::now(),
+            rx,
+            cancel,
+            lines: vec![],
+            iterations: vec![],
+            progress: None,
+            result: None,
+            handle: Some(handle),
+        }
+    }
+
+    /// Takes every event sent so far; true when something arrived.
+    pub fn poll(&mut self) -> bool {
+        let mut any = false;
+        while let Ok(e) = self.rx.try_recv() {
+            any = true;
+            match e {
+                Event::Line(l) => self.lines.push(l),
+                Event::Iteration(r) => self.iterations.push(r),
+                Event::Progress(a, b) => self.progress = Some((a, b)),
+                Event::Finished(r) => {
+                    self.result = Some(r);
+                    if let Some(h) = self.handle.take() {
+                        let _ = h.join();
+                    }
+                }
+            }
+        }
+        any
+    }
+
+    pub fn running(&self) -> bool {
+        self.result.is_none()
+    }
+
+    pub fn cancel(&self) {
+        self.cancel.store(true, Ordering::Relaxed);
+    }
+
+    /// Waits for the job to end (after a cancel).
+    pub fn wait(&mut self) {
+        while self.running() {
+            std::thread::sleep(std::time::Duration::from_millis(10));
+            self.poll();
+        }
+    }
+}

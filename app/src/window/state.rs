@@ -1,0 +1,295 @@
+//! The open project and everything the views show, loaded from its folder.
+
+use crate::pipeline::{
+    at, load_model, load_model_context, load_points, project_states, run_dir, ModelContext, Points,
+    RunFile,
+};
+use fieldstone_core::drillhole::desurvey::Trace;
+use fieldstone_core::grid::geotiff::read_geotiff;
+use fieldstone_core::grid::Grid2;
+use fieldstone_core::invert::IterationRecord;
+use fieldstone_core::project::file::ProjectFile;
+use fieldstone_core::project::provenance::StepState;
+use fieldstone_core::table::passthrough::read_passthrough;
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+/// A table's numeric columns by name (text columns kept as text).
+#[derive(Default, Clone)]
+pub struct Readings {
+    pub names: Vec<String>,
+    pub numbers: Vec<Option<Vec<f64>>>,
+    pub lines: Vec<String>,
+    pub x: Vec<f64>,
+    pub y: Vec<f64>,
+}
+
+impl Readings {
+    pub fn load(path: &Path) -> Result<Readings, String> {
+        let t = read_passthrough(path, &[]).map_err(|e| e.to_string())?;
+        let mut r = Readings {
+            names: t.names.clone(),
+            ..Default::default()
+        };
+        for c in 0..t.names.len() {
+            r.numbers.push(t.numbers(c, false).ok());
+        }
+        let col = |n: &str| t.column(n).and_then(|c| r.numbers[c].clone());
+        r.x = col("x").unwrap_or_default();
+        r.y = col("y").unwrap_or_default();
+        if let Some(lc) = t.column("line") {
+            r.lines = (0..t.n_rows()).map(|k| t.text(k, lc)).collect();
+        }
+        Ok(r)
+    }
+    pub fn column(&self, name: &str) -> Option<&Vec<f64>> {
+        let i = self
+            .names
+            .iter()
+            .position(|n| n.eq_ignore_ascii_case(name))?;
+        self.numbers[i].as_ref()
+    }
+}
+
+/// A finished run of a scenario.
+pub struct RunView {
+    pub file: RunFile,
+    pub model: Vec<f64>,
+    pub observed: Points,
+    pub predicted: Vec<f64>,
+    pub log: Vec<IterationRecord>,
+}
+
+/// What the views draw.
+#[derive(Default)]
+pub struct Views {
+    pub gravity_raw: Option<Readings>,
+    pub gravity_reduced: Option<Readings>,
+    pub magnetic_reduced: Option<Readings>,
+    pub grids: BTreeMap<String, Grid2>,
+    pub model: Option<ModelContext>,
+    pub holes: Vec<(String, [f64; 3], Vec<[f64; 3]>)>,
+    pub runs: BTreeMap<String, RunView>,
+    pub problems: Vec<String>,
+}
+
+/// The open project.
+pub struct Doc {
+    pub dir: PathBuf,
+    pub project: ProjectFile,
+    pub read_only: Option<String>,
+    /// The project as last saved, to tell unsaved edits.
+    pub saved: ProjectFile,
+    pub undo: Vec<ProjectFile>,
+    pub redo: Vec<ProjectFile>,
+    pub states: Vec<(String, StepState)>,
+    pub views: Views,
+}
+
+/// The autosave file of a project folder.
+pub fn autosave_path(dir: &Path) -> PathBuf {
+    dir.join(".autosave.project.json")
+}
+
+impl Doc {
+    pub fn open(dir: &Path) -> Result<Doc, String> {
+        let l = ProjectFile::load(dir).map_err(|e| e.to_string())?;
+        let mut d = Doc {
+            dir: dir.to_path_buf(),
+            saved: l.project.clone(),
+            project: l.project,
+            read_only: l.read_only_because,
+            undo: vec![],
+            redo: vec![],
+            states: vec![],
+            views: Views::default(),
+        };
+        d.reload();
+        Ok(d)
+    }
+
+    pub fn dirty(&self) -> bool {
+        self.project != self.saved
+    }
+
+    /// Records the project before an edit (for undo).
+    pub fn before_edit(&mut self) {
+        self.undo.push(self.project.clone());
+        if self.undo.len() > 200 {
+            self.undo.remove(0);
+        }
+        self.redo.clear();
+    }
+
+    pub fn undo(&mut self) -> bool {
+        match self.undo.pop() {
+            Some(p) => {
+                self.redo.push(std::mem::replace(&mut self.project, p));
+                true
+            }
+            None => false,
+        }
+    }
+
+    pub fn redo(&mut self) -> bool {
+        match self.redo.pop() {
+            Some(p) => {
+                self.undo.push(std::mem::replace(&mut self.project, p));
+                true
+            }
+            None => false,
+        }
+    }
+
+    pub fn save(&mut self) -> Result<(), String> {
+        if let Some(why) = &self.read_only {
+            return Err(why.clone());
+        }
+        self.project.save(&self.dir).map_err(|e| e.to_string())?;
+        self.saved = self.project.clone();
+        let _ = std::fs::remove_file(autosave_path(&self.dir));
+        Ok(())
+    }
+
+    /// Writes unsaved edits to the autosave file (atomically).
+    pub fn autosave(&self) -> Result<(), String> {
+        if !self.dirty() || self.read_only.is_some() {
+            return Ok(());
+        }
+        let text = serde_json::to_string_pretty(&self.project).map_err(|e| e.to_string())?;
+        crate::pipeline::write_text(&autosave_path(&self.dir), &text)
+    }
+
+    /// The step states as they stand now.
+    pub fn refresh_states(&mut self) {
+        self.states = project_states(&self.dir, &self.project).unwrap_or_default();
+    }
+
+    pub fn state_of(&self, key: &str) -> Option<StepState> {
+        self.states.iter().find(|(k, _)| k == key).map(|(_, s)| *s)
+    }
+
+    /// Loads what the views show from the project folder; missing outputs
+    /// are simply absent.
+    pub fn reload(&mut self) {
+        self.refresh_states();
+        let mut v = Views::default();
+        let p = &self.project;
+        let dir = &self.dir;
+        let mut note = |r: Result<(), String>| {
+            if let Err(e) = r {
+                v.problems.push(e);
+            }
+        };
+        if let Some(g) = &p.gravity {
+            note(
+                at(dir, &g.file)
+                    .and_then(|f| Readings::load(&f))
+                    .map(|r| v.gravity_raw = Some(r)),
+            );
+        }
+        let red = dir.join("data/gravity_reduced.csv");
+        if red.exists() {
+            note(Readings::load(&red).map(|r| v.gravity_reduced = Some(r)));
+        }
+        let mred = dir.join("data/magnetic_reduced.csv");
+        if mred.exists() {
+            note(Readings::load(&mred).map(|r| v.magnetic_reduced = Some(r)));
+        }
+        if let Some(d) = &p.dem {
+            note(
+                at(dir, d)
+                    .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                    .map(|g| {
+                        v.grids.insert("terrain".into(), g);
+                    }),
+            );
+        }
+        for s in &p.surfaces {
+            note(
+                at(dir, &s.file)
+                    .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                    .map(|g| {
+                        v.grids.insert(s.name.clone(), g);
+                    }),
+            );
+        }
+        for kind in ["gravity", "magnetic"] {
+            for what in ["grid", "regional", "residual"] {
+                let f = dir.join(format!("data/{kind}_{what}.tif"));
+                if f.exists() {
+                    note(read_geotiff(&f).map_err(|e| e.to_string()).map(|g| {
+                        v.grids.insert(format!("{kind}_{what}"), g);
+                    }));
+                }
+            }
+        }
+        match load_model_context(dir, p) {
+            Ok(m) => {
+                if let Some(hs) = &m.inputs.holes {
+                    for h in &hs.holes {
+                        let tr = Trace::of(h);
+                        let td = h
+                            .total_depth_m
+                            .or(h.intervals.last().map(|i| i.to_m))
+                            .unwrap_or(0.0);
+                        let pts = (0..=20).map(|k| tr.at(td * k as f64 / 20.0)).collect();
+                        v.holes.push((h.id.clone(), h.collar, pts));
+                    }
+                }
+                for s in &p.scenarios {
+                    let rd = run_dir(dir, &s.name);
+                    let Ok(text) = std::fs::read_to_string(rd.join("summary.json")) else {
+                        continue;
+                    };
+                    let Ok(file) = serde_json::from_str::<RunFile>(&text) else {
+                        continue;
+                    };
+                    let Ok(model) = load_model(dir, &s.name, m.mesh.n_cells()) else {
+                        continue;
+                    };
+                    let log = std::fs::read_to_string(rd.join("log.json"))
+                        .ok()
+                        .and_then(|t| serde_json::from_str(&t).ok())
+                        .unwrap_or_default();
+                    let (observed, predicted) =
+                        read_predicted(&rd.join("predicted.csv")).unwrap_or_default();
+                    v.runs.insert(
+                        s.name.clone(),
+                        RunView {
+                            file,
+                            model,
+                            observed,
+                            predicted,
+                            log,
+                        },
+                    );
+                }
+                v.model = Some(m);
+            }
+            Err(e) => v.problems.push(e),
+        }
+        self.views = v;
+    }
+}
+
+fn read_predicted(path: &Path) -> Option<(Points, Vec<f64>)> {
+    let text = std::fs::read_to_string(path).ok()?;
+    let mut obs = Points::default();
+    let mut pred = Vec::new();
+    for line in text.lines().filter(|l| !l.starts_with('#')).skip(1) {
+        let v: Vec<f64> = line.split(',').filter_map(|s| s.parse().ok()).collect();
+        if v.len() >= 7 {
+            obs.xyz.push([v[0], v[1], v[2]]);
+            obs.value.push(v[3]);
+            pred.push(v[4]);
+            obs.uncertainty.push(v[6]);
+        }
+    }
+    Some((obs, pred))
+}
+
+/// Loads the points table of a data kind, when the pipeline has made it.
+pub fn data_points(dir: &Path, kind: &str) -> Option<Points> {
+    load_points(&dir.join(format!("data/{kind}_data.csv"))).ok()
+}

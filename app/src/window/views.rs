@@ -1,0 +1,864 @@
+//! The views in the centre: maps, profiles, model slices and sections,
+//! data fit, and the run log plot.
+
+use super::canvas::{self, Colouring, GridLayer, MapLayers};
+use super::{FieldstoneApp, Step};
+use egui::{Color32, RichText, Ui};
+use egui_plot::{Bar, BarChart, HLine, Legend, Line, Plot, Points};
+use fieldstone_core::export::figure::{grid_figure, section_figure};
+use fieldstone_core::export::section::{plan_slice, section, SectionSample, SliceLevel};
+use fieldstone_core::grid::Grid2;
+use fieldstone_core::invert::IterationRecord;
+
+pub struct ViewState {
+    pub grid: String,
+    pub hillshade: bool,
+    pub equalise: bool,
+    pub line: Option<String>,
+    pub colour_by: String,
+    pub constraint_array: String,
+    pub result_view: usize,
+    pub compare_with: String,
+    pub slice_z: f64,
+    pub section_at: Option<[f64; 2]>,
+    pub last_iterations: Vec<IterationRecord>,
+    pub units: String,
+}
+
+impl Default for ViewState {
+    fn default() -> Self {
+        ViewState {
+            grid: "gravity_grid".into(),
+            hillshade: false,
+            equalise: false,
+            line: None,
+            colour_by: "gravity_mgal".into(),
+            constraint_array: "upper_bound".into(),
+            result_view: 0,
+            compare_with: String::new(),
+            slice_z: f64::NAN,
+            section_at: None,
+            last_iterations: vec![],
+            units: String::new(),
+        }
+    }
+}
+
+fn extent(app: &FieldstoneApp) -> Option<[f64; 4]> {
+    let d = app.doc.as_ref()?;
+    if let Some(r) = &d.views.gravity_raw {
+        let (x0, x1) = r.x.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
+            (a.0.min(*v), a.1.max(*v))
+        });
+        let (y0, y1) = r.y.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
+            (a.0.min(*v), a.1.max(*v))
+        });
+        if x1 > x0 {
+            return Some([x0, x1, y0, y1]);
+        }
+    }
+    let m = d.views.model.as_ref()?;
+    let [(i0, i1), (j0, j1), _] = m.mesh.core;
+    Some([m.mesh.x[i0], m.mesh.x[i1], m.mesh.y[j0], m.mesh.y[j1]])
+}
+
+fn collars(app: &FieldstoneApp) -> Vec<([f64; 2], String)> {
+    app.doc
+        .as_ref()
+        .map(|d| {
+            d.views
+                .holes
+                .iter()
+                .map(|(id, c, _)| ([c[0], c[1]], id.clone()))
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+fn traces(app: &FieldstoneApp) -> Vec<(Vec<[f64; 2]>, Color32, bool)> {
+    app.doc
+        .as_ref()
+        .map(|d| {
+            d.views
+                .holes
+                .iter()
+                .map(|(_, _, t)| {
+                    (
+                        t.iter().map(|p| [p[0], p[1]]).collect(),
+                        Color32::BLACK,
+                        false,
+                    )
+                })
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+fn section_lines(app: &FieldstoneApp) -> Vec<(Vec<[f64; 2]>, Color32, bool)> {
+    app.doc
+        .as_ref()
+        .map(|d| {
+            d.project
+                .exports
+                .sections
+                .iter()
+                .map(|s| (s.vertices.clone(), Color32::from_rgb(90, 40, 140), false))
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
+/// The map with a grid (by name) and optional points.
+fn grid_map(
+    app: &mut FieldstoneApp,
+    ui: &mut Ui,
+    name: &str,
+    points: Vec<([f64; 2], Option<f64>)>,
+    extra: Vec<(Vec<[f64; 2]>, Color32, bool)>,
+) -> canvas::MapResponse {
+    let ext = extent(app);
+    let Some(doc) = app.doc.as_ref() else {
+        return Default::default();
+    };
+    let g = doc.views.grids.get(name);
+    let units = g.map(|g| g.units.clone()).unwrap_or_default();
+    let mut lines = traces(app);
+    lines.extend(section_lines(app));
+    lines.extend(extra);
+    let layers = MapLayers {
+        grid: g.map(|g| GridLayer {
+            key: name.to_string(),
+            grid: g,
+            colouring: Colouring::for_values(&g.values, app.views.equalise),
+            hillshade: app.views.hillshade,
+        }),
+        points,
+        point_colouring: None,
+        highlight: vec![],
+        lines,
+        collars: collars(app),
+        units: units.clone(),
+    };
+    let r = canvas::map(ui, &mut app.map, &mut app.textures, &layers, ext);
+    app.hover = r
+        .hover
+        .map(|p| (p, g.and_then(|g| g.sample(p[0], p[1]).ok())));
+    app.views.units = units;
+    r
+}
+
+pub fn show(app: &mut FieldstoneApp, ui: &mut Ui) {
+    if app.doc.is_none() {
+        ui.centered_and_justified(|ui| {
+            ui.label("Open a project (Project → Open…) or drop a project folder onto the window.")
+        });
+        return;
+    }
+    if let Some(d) = &app.doc {
+        for p in d.views.problems.iter().take(3) {
+            ui.label(
+                RichText::new(p)
+                    .color(Color32::from_rgb(170, 60, 20))
+                    .small(),
+            );
+        }
+    }
+    match app.step {
+        Step::Survey | Step::Corrections => survey(app, ui),
+        Step::Grids | Step::Regional => {
+            let name = app.views.grid.clone();
+            let pts = app
+                .doc
+                .as_ref()
+                .and_then(|d| d.views.gravity_raw.as_ref())
+                .map(|r| {
+                    r.x.iter()
+                        .zip(&r.y)
+                        .map(|(x, y)| ([*x, *y], None))
+                        .collect()
+                })
+                .unwrap_or_default();
+            ui.label(RichText::new(format!("{name} — drag to pan, scroll to zoom")).weak());
+            grid_map(app, ui, &name, pts, vec![]);
+        }
+        Step::ModelSpace => model_space(app, ui),
+        Step::Constraints => constraints(app, ui),
+        Step::Runs => run_log(app, ui),
+        Step::Results => results(app, ui),
+    }
+}
+
+fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let corrections = app.step == Step::Corrections;
+    let Some(doc) = app.doc.as_ref() else { return };
+    let table = if corrections {
+        doc.views.gravity_reduced.clone()
+    } else {
+        doc.views.gravity_raw.clone()
+    };
+    let terrain = doc.views.grids.get("terrain").cloned();
+    let Some(r) = table else {
+        ui.label(if corrections {
+            "Run the corrections to see the anomalies (Run the steps up to the model space)."
+        } else {
+            "No gravity survey in this project: import one with the form on the right."
+        });
+        return;
+    };
+    if app.views.line.is_none() {
+        app.views.line = r.lines.iter().find(|l| l.as_str() != "0").cloned();
+    }
+    let col = if corrections {
+        "complete_bouguer_anomaly_mgal".to_string()
+    } else {
+        app.views.colour_by.clone()
+    };
+    let values = r.column(&col).cloned().unwrap_or_default();
+    let pts: Vec<([f64; 2], Option<f64>)> = (0..r.x.len())
+        .map(|k| ([r.x[k], r.y[k]], values.get(k).copied()))
+        .collect();
+    let colouring = Colouring::for_values(&values, app.views.equalise);
+    let sel: Vec<usize> = match &app.views.line {
+        Some(l) => (0..r.lines.len()).filter(|k| &r.lines[*k] == l).collect(),
+        None => vec![],
+    };
+    let ext = extent(app);
+    let h = ui.available_height();
+    ui.label(
+        RichText::new(format!(
+            "stations coloured by {col}; click a station to see its line"
+        ))
+        .weak(),
+    );
+    let mut map_h = 0.0;
+    ui.allocate_ui(egui::vec2(ui.available_width(), h * 0.62), |ui| {
+        let layers = MapLayers {
+            grid: terrain.as_ref().map(|g| GridLayer {
+                key: "terrain-shade".into(),
+                grid: g,
+                colouring: Colouring {
+                    map: fieldstone_core::export::figure::ColourMap::Grey,
+                    lo: g.values.iter().cloned().fold(f64::INFINITY, f64::min) - 40.0,
+                    hi: g.values.iter().cloned().fold(f64::NEG_INFINITY, f64::max) + 40.0,
+                    equalised: None,
+                },
+                hillshade: true,
+            }),
+            points: pts.clone(),
+            point_colouring: Some(colouring.clone()),
+            highlight: sel
+                .iter()
+                .map(|k| pts[*k].0)
+                .collect::<Vec<_>>()
+                .into_iter()
+                .step_by(4)
+                .collect(),
+            lines: traces(app),
+            collars: collars(app),
+            units: if corrections {
+                "mGal".into()
+            } else {
+                col.clone()
+            },
+        };
+        let resp = canvas::map(ui, &mut app.map, &mut app.textures, &layers, ext);
+        if let Some(c) = resp.clicked {
+            let nearest = (0..r.x.len()).min_by(|a, b| {
+                ((r.x[*a] - c[0]).hypot(r.y[*a] - c[1]))
+                    .total_cmp(&(r.x[*b] - c[0]).hypot(r.y[*b] - c[1]))
+            });
+            if let Some(k) = nearest {
+                app.views.line = r.lines.get(k).cloned();
+            }
+        }
+        app.hover = resp.hover.map(|p| {
+            let near = (0..r.x.len())
+                .find(|k| (r.x[*k] - p[0]).hypot(r.y[*k] - p[1]) < 6.0 * app.map.scale);
+            (p, near.and_then(|k| values.get(k).copied()))
+        });
+        app.views.units = if corrections {
+            "mGal".into()
+        } else {
+            col.clone()
+        };
+        map_h = ui.min_rect().height();
+    });
+    let _ = map_h;
+    // Profile of the selected line.
+    let mut prof: Vec<[f64; 2]> = Vec::new();
+    if !sel.is_empty() {
+        let (x0, y0) = (r.x[sel[0]], r.y[sel[0]]);
+        let mut s: Vec<usize> = sel.clone();
+        s.sort_by(|a, b| {
+            ((r.x[*a] - x0).hypot(r.y[*a] - y0)).total_cmp(&(r.x[*b] - x0).hypot(r.y[*b] - y0))
+        });
+        for k in s {
+            if let Some(v) = values.get(k) {
+                prof.push([(r.x[k] - x0).hypot(r.y[k] - y0), *v]);
+            }
+        }
+    }
+    let spikes = flagged(&prof);
+    Plot::new("profile")
+        .legend(Legend::default())
+        .x_axis_label("distance along the line (m)")
+        .y_axis_label(col.clone())
+        .show(ui, |p| {
+            p.line(Line::new(
+                format!("line {}", app.views.line.clone().unwrap_or_default()),
+                prof.clone(),
+            ));
+            p.points(Points::new("readings", prof.clone()).radius(2.5));
+            if !spikes.is_empty() {
+                p.points(
+                    Points::new("flagged (fourth difference)", spikes)
+                        .radius(5.0)
+                        .color(Color32::RED),
+                );
+            }
+        });
+}
+
+/// Readings whose fourth difference stands out (spike detector, common practice).
+fn flagged(prof: &[[f64; 2]]) -> Vec<[f64; 2]> {
+    if prof.len() < 6 {
+        return vec![];
+    }
+    let d4: Vec<f64> = prof
+        .windows(5)
+        .map(|w| w[0][1] - 4.0 * w[1][1] + 6.0 * w[2][1] - 4.0 * w[3][1] + w[4][1])
+        .collect();
+    let mut a: Vec<f64> = d4.iter().map(|v| v.abs()).collect();
+    a.sort_by(|x, y| x.total_cmp(y));
+    let mad = a[a.len() / 2].max(1e-12);
+    d4.iter()
+        .enumerate()
+        .filter(|(_, v)| v.abs() > 8.0 * mad)
+        .map(|(i, _)| prof[i + 2])
+        .collect()
+}
+
+fn default_slice_z(app: &mut FieldstoneApp) -> Option<(f64, f64, f64)> {
+    let m = app.doc.as_ref()?.views.model.as_ref()?;
+    let (zmin, zmax) = (m.mesh.z[m.mesh.core[2].0], m.mesh.z[m.mesh.z.len() - 1]);
+    if !app.views.slice_z.is_finite() || app.views.slice_z < zmin || app.views.slice_z > zmax {
+        app.views.slice_z = zmax - 0.3 * (zmax - zmin);
+    }
+    Some((zmin, zmax, app.views.slice_z))
+}
+
+/// A plan-slice map of a full-mesh array.
+fn slice_map(
+    app: &mut FieldstoneApp,
+    ui: &mut Ui,
+    key: &str,
+    values: &[f64],
+    units: &str,
+    extra: Vec<(Vec<[f64; 2]>, Color32, bool)>,
+) -> canvas::MapResponse {
+    let Some((zmin, zmax, _)) = default_slice_z(app) else {
+        return Default::default();
+    };
+    ui.horizontal(|ui| {
+        ui.label("elevation of the slice");
+        ui.add(egui::Slider::new(&mut app.views.slice_z, zmin..=zmax).suffix(" m"));
+    });
+    let ext = extent(app);
+    let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) else {
+        return Default::default();
+    };
+    let g = match plan_slice(
+        &m.mesh,
+        values,
+        SliceLevel::Elevation(app.views.slice_z),
+        None,
+    ) {
+        Ok(g) => g,
+        Err(e) => {
+            ui.label(e.to_string());
+            return Default::default();
+        }
+    };
+    let mut lines = traces(app);
+    lines.extend(section_lines(app));
+    lines.extend(extra);
+    let layers = MapLayers {
+        grid: Some(GridLayer {
+            key: format!("{key}@{:.1}", app.views.slice_z),
+            grid: &g,
+            colouring: Colouring::for_values(values, app.views.equalise),
+            hillshade: false,
+        }),
+        points: vec![],
+        point_colouring: None,
+        highlight: app.views.section_at.into_iter().collect(),
+        lines,
+        collars: collars(app),
+        units: units.into(),
+    };
+    let r = canvas::map(ui, &mut app.map, &mut app.textures, &layers, ext);
+    app.hover = r.hover.map(|p| (p, g.sample(p[0], p[1]).ok()));
+    app.views.units = units.into();
+    r
+}
+
+fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) else {
+        ui.label("No mesh: set a recipe in the form.");
+        return;
+    };
+    let act: Vec<f64> = m
+        .active
+        .active
+        .iter()
+        .map(|a| if *a { 1.0 } else { 0.0 })
+        .collect();
+    let mesh = m.mesh.clone();
+    let (x, y) = (&mesh.x, &mesh.y);
+    let [(i0, i1), (j0, j1), _] = mesh.core;
+    let outline =
+        |a: f64, b: f64, c: f64, d: f64, col| (vec![[a, c], [b, c], [b, d], [a, d]], col, true);
+    let extra = vec![
+        outline(x[i0], x[i1], y[j0], y[j1], Color32::from_rgb(20, 20, 160)),
+        outline(
+            x[0],
+            x[x.len() - 1],
+            y[0],
+            y[y.len() - 1],
+            Color32::from_rgb(120, 120, 120),
+        ),
+    ];
+    let h = ui.available_height();
+    ui.label(
+        RichText::new("active cells (1) and air (0) at the slice; blue: core, grey: padding")
+            .weak(),
+    );
+    ui.allocate_ui(egui::vec2(ui.available_width(), h * 0.55), |ui| {
+        slice_map(app, ui, "active", &act, "active", extra);
+    });
+    let yc = 0.5 * (y[j0] + y[j1]);
+    let line = [[x[0], yc], [x[x.len() - 1], yc]];
+    if let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) {
+        let step = (x[i0 + 1] - x[i0]).max(1.0);
+        let s = section(&m.mesh, &act, &line, step).unwrap_or_default();
+        let terrain = crate::pipeline::terrain_along(m, &s);
+        ui.label(
+            RichText::new("east-west section through the middle of the core, including padding")
+                .weak(),
+        );
+        canvas::section(
+            ui,
+            &s,
+            &m.mesh.z,
+            &terrain,
+            &Colouring::for_values(&act, false),
+            "active",
+            1.0,
+        );
+    }
+}
+
+fn constraints(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let Some(doc) = app.doc.as_ref() else { return };
+    let Some(sc) = doc.project.scenarios.get(app.scenario).cloned() else {
+        ui.label("No scenario: make one in the form.");
+        return;
+    };
+    let Some(m) = doc.views.model.as_ref() else {
+        ui.label("No mesh yet.");
+        return;
+    };
+    let arrays = match crate::pipeline::constraints_of(m, &sc) {
+        Ok((c, _)) => c,
+        Err(e) => {
+            ui.label(RichText::new(e).color(Color32::RED));
+            return;
+        }
+    };
+    let v: Vec<f64> = match app.views.constraint_array.as_str() {
+        "lower_bound" => arrays.lower.clone(),
+        "reference" => arrays.reference.clone(),
+        "reference_weight" => arrays.reference_weight.clone(),
+        "starting" => arrays.starting.clone(),
+        _ => arrays.upper.clone(),
+    };
+    let v: Vec<f64> = v
+        .iter()
+        .zip(&arrays.active)
+        .map(|(x, a)| if *a && x.is_finite() { *x } else { f64::NAN })
+        .collect();
+    let mut extra: Vec<(Vec<[f64; 2]>, Color32, bool)> = sc
+        .layers
+        .iter()
+        .filter_map(|l| match &l.region {
+            fieldstone_core::constraint::region::Region::Polygon { vertices, .. } => {
+                Some((vertices.clone(), Color32::from_rgb(200, 30, 30), true))
+            }
+            _ => None,
+        })
+        .collect();
+    if let Some(d) = &app.forms.drawing {
+        extra.push((d.clone(), Color32::from_rgb(230, 120, 0), false));
+    }
+    ui.label(
+        RichText::new(format!(
+            "{} of scenario '{}' before any run (blank: unbounded or air)",
+            app.views.constraint_array, sc.name
+        ))
+        .weak(),
+    );
+    let key = format!(
+        "constraint-{}-{}-{}",
+        sc.name,
+        app.views.constraint_array,
+        fieldstone_core::project::provenance::hash_json(&sc.layers)
+    );
+    let r = slice_map(app, ui, &key, &v, "", extra);
+    if let Some(d) = app.forms.drawing.as_mut() {
+        if r.double_clicked {
+            if let Some(f) = d.first().copied() {
+                if d.len() >= 3 {
+                    d.push(f);
+                }
+            }
+        } else if let Some(c) = r.clicked {
+            d.push(c);
+        }
+    }
+}
+
+fn iterations_of(app: &FieldstoneApp) -> Vec<IterationRecord> {
+    if let Some(j) = &app.job {
+        if !j.iterations.is_empty() {
+            return j.iterations.clone();
+        }
+    }
+    let name = app.scenario_name();
+    app.doc
+        .as_ref()
+        .and_then(|d| d.views.runs.get(&name))
+        .map(|r| r.log.clone())
+        .filter(|l| !l.is_empty())
+        .unwrap_or_else(|| app.views.last_iterations.clone())
+}
+
+fn run_log(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let its = iterations_of(app);
+    let target = app
+        .doc
+        .as_ref()
+        .and_then(|d| d.views.runs.get(&app.scenario_name()))
+        .map(|r| r.file.summary.target_phi_d);
+    ui.label(
+        RichText::new(format!(
+            "run log of '{}': φ_d and φ_m by iteration",
+            app.scenario_name()
+        ))
+        .weak(),
+    );
+    let h = ui.available_height();
+    Plot::new("phi")
+        .legend(Legend::default())
+        .height(h * 0.45)
+        .x_axis_label("iteration")
+        .y_axis_label("log10 of φ")
+        .show(ui, |p| {
+            let l = |f: &dyn Fn(&IterationRecord) -> f64| {
+                its.iter()
+                    .map(|r| [r.iteration as f64, f(r).max(1e-300).log10()])
+                    .collect::<Vec<_>>()
+            };
+            p.line(Line::new("φ_d (data misfit)", l(&|r| r.phi_d)));
+            p.line(Line::new("φ_m (model objective)", l(&|r| r.phi_m)));
+            if let Some(t) = target {
+                p.hline(HLine::new("target φ_d", t.log10()));
+            }
+        });
+    egui::ScrollArea::vertical()
+        .auto_shrink([false, false])
+        .show(ui, |ui| {
+            egui::Grid::new("iterations").striped(true).show(ui, |ui| {
+                for h in [
+                    "iteration",
+                    "β",
+                    "φ_d",
+                    "φ_m",
+                    "chi-factor",
+                    "CG",
+                    "at lower",
+                    "at upper",
+                    "elapsed s",
+                ] {
+                    ui.strong(h);
+                }
+                ui.end_row();
+                for r in &its {
+                    ui.label(r.iteration.to_string());
+                    ui.label(format!("{:.3e}", r.beta));
+                    ui.label(format!("{:.4e}", r.phi_d));
+                    ui.label(format!("{:.4e}", r.phi_m));
+                    ui.label(format!("{:.3}", r.chi_factor));
+                    ui.label(r.cg_iterations.to_string());
+                    ui.label(r.at_lower.to_string());
+                    ui.label(r.at_upper.to_string());
+                    ui.label(format!("{:.1}", r.elapsed_s));
+                    ui.end_row();
+                }
+            });
+        });
+}
+
+/// Section samples, terrain line, layer tops and title.
+type SectionView = (Vec<SectionSample>, Vec<[f64; 2]>, Vec<f64>, String);
+
+/// The section of the selected run: east-west or north-south through the
+/// chosen point (the core centre until one is clicked).
+fn current_section(app: &FieldstoneApp, ns: bool) -> Option<SectionView> {
+    let d = app.doc.as_ref()?;
+    let m = d.views.model.as_ref()?;
+    let run = d.views.runs.get(&app.scenario_name())?;
+    let [(i0, i1), (j0, j1), _] = m.mesh.core;
+    let (x, y) = (&m.mesh.x, &m.mesh.y);
+    let at = app
+        .views
+        .section_at
+        .unwrap_or([0.5 * (x[i0] + x[i1]), 0.5 * (y[j0] + y[j1])]);
+    let line = if ns {
+        [[at[0], y[j0]], [at[0], y[j1]]]
+    } else {
+        [[x[i0], at[1]], [x[i1], at[1]]]
+    };
+    let step = (x[i0 + 1] - x[i0]).max(1.0);
+    let s = section(&m.mesh, &run.model, &line, step).ok()?;
+    let terrain = crate::pipeline::terrain_along(m, &s);
+    let title = format!(
+        "{} — {} section through {:.0} m {}",
+        app.scenario_name(),
+        if ns { "north-south" } else { "east-west" },
+        if ns { at[0] } else { at[1] },
+        if ns { "E" } else { "N" }
+    );
+    Some((s, terrain, m.mesh.z.clone(), title))
+}
+
+fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let name = app.scenario_name();
+    let Some(doc) = app.doc.as_ref() else { return };
+    let Some(run) = doc.views.runs.get(&name) else {
+        ui.label(format!(
+            "Scenario '{name}' has not been run: choose Runs and press Run."
+        ));
+        return;
+    };
+    let units = run.file.model_units.clone();
+    ui.label(
+        RichText::new(format!(
+            "{} · {} · chi-factor {:.3} · {}",
+            name, units, run.file.summary.chi_factor, run.file.background
+        ))
+        .weak(),
+    );
+    match app.views.result_view {
+        1 | 2 => {
+            let ns = app.views.result_view == 2;
+            if let Some((s, terrain, z, title)) = current_section(app, ns) {
+                ui.label(RichText::new(title).strong());
+                let c = Colouring::for_values(
+                    &s.iter().map(|q| q.value).collect::<Vec<_>>(),
+                    app.views.equalise,
+                );
+                if let Some((d, e, v)) = canvas::section(ui, &s, &z, &terrain, &c, &units, 1.0) {
+                    app.hover = Some(([d, e], Some(v)));
+                }
+            }
+        }
+        3 => data_fit(app, ui),
+        4 => {
+            let other = app.views.compare_with.clone();
+            let Some(o) = doc.views.runs.get(&other) else {
+                ui.label("Choose another run to subtract in the form.");
+                return;
+            };
+            let diff: Vec<f64> = run.model.iter().zip(&o.model).map(|(a, b)| a - b).collect();
+            ui.label(RichText::new(format!("'{name}' minus '{other}'")).strong());
+            slice_map(
+                app,
+                ui,
+                &format!("diff-{name}-{other}"),
+                &diff,
+                &units,
+                vec![],
+            );
+        }
+        _ => {
+            let model = run.model.clone();
+            ui.label(RichText::new("click the map to place the sections").weak());
+            let r = slice_map(
+                app,
+                ui,
+                &format!("model-{name}-{}", run.file.summary.elapsed_s),
+                &model,
+                &units,
+                vec![],
+            );
+            if let Some(c) = r.clicked {
+                app.views.section_at = Some(c);
+            }
+        }
+    }
+}
+
+fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let name = app.scenario_name();
+    let Some(run) = app.doc.as_ref().and_then(|d| d.views.runs.get(&name)) else {
+        return;
+    };
+    let obs = &run.observed;
+    let pred = &run.predicted;
+    let res: Vec<f64> = obs.value.iter().zip(pred).map(|(o, p)| o - p).collect();
+    let norm: Vec<f64> = res
+        .iter()
+        .zip(&obs.uncertainty)
+        .map(|(r, u)| r / u)
+        .collect();
+    let pts = |v: &[f64]| -> Vec<([f64; 2], Option<f64>)> {
+        obs.xyz
+            .iter()
+            .zip(v)
+            .map(|(p, v)| ([p[0], p[1]], Some(*v)))
+            .collect()
+    };
+    let both = Colouring::for_values(&obs.value, false);
+    let sets = [
+        ("observed", pts(&obs.value), both.clone()),
+        ("predicted", pts(pred), both),
+        ("residual", pts(&res), Colouring::for_values(&res, false)),
+    ];
+    let ext = extent(app);
+    let w = ui.available_width() / 3.0 - 6.0;
+    let h = ui.available_height() * 0.6;
+    let units = run.file.data_units.clone();
+    let mut hover = None;
+    ui.horizontal(|ui| {
+        for (k, (label, p, c)) in sets.into_iter().enumerate() {
+            ui.allocate_ui(egui::vec2(w, h), |ui| {
+                ui.vertical(|ui| {
+                    ui.label(RichText::new(label).strong());
+                    let layers = MapLayers {
+                        grid: None,
+                        points: p,
+                        point_colouring: Some(c),
+                        highlight: vec![],
+                        lines: vec![],
+                        collars: vec![],
+                        units: units.clone(),
+                    };
+                    let mut frame = app.map;
+                    let r = canvas::map(ui, &mut frame, &mut app.textures, &layers, ext);
+                    if k == 0 {
+                        app.map = frame;
+                    }
+                    if r.hover.is_some() {
+                        hover = r.hover;
+                    }
+                });
+            });
+        }
+    });
+    app.hover = hover.map(|p| (p, None));
+    // Histogram of normalised residuals with the unit normal for comparison.
+    let bins = 24;
+    let (lo, hi) = (-4.0, 4.0);
+    let mut counts = vec![0usize; bins];
+    for v in &norm {
+        let b = (((v - lo) / (hi - lo)) * bins as f64).floor();
+        if (0.0..bins as f64).contains(&b) {
+            counts[b as usize] += 1;
+        }
+    }
+    let bw = (hi - lo) / bins as f64;
+    let bars: Vec<Bar> = counts
+        .iter()
+        .enumerate()
+        .map(|(i, c)| Bar::new(lo + (i as f64 + 0.5) * bw, *c as f64).width(bw * 0.95))
+        .collect();
+    let n = norm.len() as f64;
+    let normal: Vec<[f64; 2]> = (0..=80)
+        .map(|k| {
+            let x = lo + (hi - lo) * k as f64 / 80.0;
+            [
+                x,
+                n * bw * (-0.5 * x * x).exp() / (2.0 * std::f64::consts::PI).sqrt(),
+            ]
+        })
+        .collect();
+    Plot::new("residual histogram")
+        .legend(Legend::default())
+        .x_axis_label("normalised residual (residual / uncertainty)")
+        .y_axis_label("data")
+        .show(ui, |p| {
+            p.bar_chart(BarChart::new("normalised residuals", bars));
+            p.line(Line::new("unit normal", normal));
+        });
+}
+
+/// Writes the current section of the selected run as PNG or SVG into its run folder.
+pub fn export_section(app: &FieldstoneApp, ext: &str) -> String {
+    let ns = app.views.result_view == 2;
+    let Some((s, terrain, z, title)) = current_section(app, ns) else {
+        return "run the scenario first".into();
+    };
+    let Some(d) = app.doc.as_ref() else {
+        return String::new();
+    };
+    let units = d
+        .views
+        .runs
+        .get(&app.scenario_name())
+        .map(|r| r.file.model_units.clone())
+        .unwrap_or_default();
+    let fig = section_figure(&s, &z, &terrain, &title, &units);
+    let path = crate::pipeline::run_dir(&d.dir, &app.scenario_name()).join(format!(
+        "window_section_{}.{ext}",
+        if ns { "ns" } else { "ew" }
+    ));
+    let bytes = if ext == "png" {
+        fig.png()
+    } else {
+        fig.svg().into_bytes()
+    };
+    match std::fs::write(&path, bytes) {
+        Ok(()) => format!("wrote {}", path.display()),
+        Err(e) => format!("could not write {}: {e}", path.display()),
+    }
+}
+
+/// Writes the plan slice of the selected run as a GeoTIFF and a PNG.
+pub fn export_slice(app: &FieldstoneApp) -> String {
+    let Some(d) = app.doc.as_ref() else {
+        return String::new();
+    };
+    let name = app.scenario_name();
+    let (Some(m), Some(run)) = (d.views.model.as_ref(), d.views.runs.get(&name)) else {
+        return "run the scenario first".into();
+    };
+    let z = app.views.slice_z;
+    let g: Grid2 = match plan_slice(&m.mesh, &run.model, SliceLevel::Elevation(z), None) {
+        Ok(g) => g,
+        Err(e) => return e.to_string(),
+    };
+    let base = crate::pipeline::run_dir(&d.dir, &name).join(format!("window_slice_{z:.0}m"));
+    let tif = base.with_extension("tif");
+    if let Err(e) = fieldstone_core::grid::geotiff::write_geotiff(&tif, &g) {
+        return e.to_string();
+    }
+    let fig = grid_figure(
+        &g,
+        &format!("{name} — plan slice at {z:.0} m elevation"),
+        &run.file.model_units,
+    );
+    match std::fs::write(base.with_extension("png"), fig.png()) {
+        Ok(()) => format!("wrote {} and .png", tif.display()),
+        Err(e) => e.to_string(),
+    }
+}

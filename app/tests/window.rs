@@ -1,0 +1,251 @@
+//! The project window driven by its widgets' labels (egui_kittest, no
+//! display): open the demo, visit every step, import a CSV with a role
+//! change, draw a polygon into a bounded layer, run an inversion and watch
+//! the log fill, export a section as PNG.
+
+use egui::accesskit::Role;
+use egui_kittest::kittest::Queryable;
+use egui_kittest::Harness;
+use fieldstone::window::{setup_fonts, FieldstoneApp, Step};
+use fieldstone_core::constraint::region::Region;
+use fieldstone_core::demo::{write_demo, DemoSize};
+use fieldstone_core::progress::Silent;
+use std::path::{Path, PathBuf};
+use std::time::{Duration, Instant};
+
+fn demo(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("fieldstone-window-{name}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    write_demo(&d, DemoSize::Small, &Silent).unwrap();
+    d
+}
+
+fn harness(dir: &Path) -> Harness<'static, FieldstoneApp> {
+    let dir = dir.to_path_buf();
+    Harness::builder()
+        .with_size([1400.0, 900.0])
+        .with_max_steps(20)
+        .build_eframe(move |cc| {
+            setup_fonts(&cc.egui_ctx);
+            FieldstoneApp::with(Some(&dir), false)
+        })
+}
+
+/// Clicks the step of that name in the step list (the first widget with the label).
+fn step(h: &mut Harness<FieldstoneApp>, label: &str) {
+    h.get_all_by_label(label)
+        .next()
+        .unwrap_or_else(|| panic!("no step {label}"))
+        .click();
+    h.run_steps(3);
+}
+
+fn click_at(h: &mut Harness<FieldstoneApp>, x: f32, y: f32) {
+    let pos = egui::pos2(x, y);
+    h.event(egui::Event::PointerMoved(pos));
+    h.step();
+    for pressed in [true, false] {
+        h.event(egui::Event::PointerButton {
+            pos,
+            button: egui::PointerButton::Primary,
+            pressed,
+            modifiers: Default::default(),
+        });
+    }
+    h.run_steps(2);
+}
+
+#[test]
+fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
+    let dir = demo("flow");
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    assert!(
+        h.state().doc.is_some(),
+        "the demo project did not open: {:?}",
+        h.state().dialog
+    );
+    // The title and the cautions are there.
+    assert_eq!(
+        h.state().doc.as_ref().unwrap().project.name,
+        "Harrow Fen (invented demo)"
+    );
+    for (s, form_widget) in [
+        ("Survey", "Preview"),
+        ("Corrections", "Reduction density"),
+        ("Grids", "Cell size"),
+        ("Regional", "Polynomial trend"),
+        ("Model space", "Core cell east-west"),
+        ("Constraints", "Add layer"),
+        ("Runs", "Run"),
+        ("Results", "Export section PNG"),
+    ] {
+        step(&mut h, s);
+        assert!(
+            h.query_by_label(form_widget).is_some(),
+            "step {s}: no '{form_widget}' in its form"
+        );
+    }
+    assert_eq!(h.state().step, Step::Results);
+
+    // Draw a triangle on the constraint map and close it: a new polygon layer
+    // with an upper bound.
+    step(&mut h, "Constraints");
+    let before = h.state().doc.as_ref().unwrap().project.scenarios[0]
+        .layers
+        .len();
+    h.get_by_label("Draw polygon on the map").click();
+    h.run_steps(2);
+    for (x, y) in [(520.0, 300.0), (760.0, 300.0), (640.0, 460.0)] {
+        click_at(&mut h, x, y);
+    }
+    assert_eq!(
+        h.state().forms.drawing.as_ref().map(|v| v.len()),
+        Some(3),
+        "map clicks did not add vertices"
+    );
+    h.get_by_label("Close polygon").click();
+    h.run_steps(3);
+    let layers = &h.state().doc.as_ref().unwrap().project.scenarios[0].layers;
+    assert_eq!(layers.len(), before + 1);
+    let l = layers.last().unwrap();
+    assert!(
+        matches!(&l.region, Region::Polygon { vertices, .. } if vertices.len() == 3),
+        "{:?}",
+        l.region
+    );
+    assert_eq!(l.assign.upper, Some(0.0));
+    // Undo takes the layer away, redo brings it back.
+    h.get_by_label("Edit").click();
+    h.run_steps(2);
+    h.get_by_label("Undo  (Ctrl+Z)").click();
+    h.run_steps(2);
+    assert_eq!(
+        h.state().doc.as_ref().unwrap().project.scenarios[0]
+            .layers
+            .len(),
+        before
+    );
+    h.get_by_label("Edit").click();
+    h.run_steps(2);
+    h.get_by_label("Redo  (Ctrl+Y)").click();
+    h.run_steps(2);
+    assert_eq!(
+        h.state().doc.as_ref().unwrap().project.scenarios[0]
+            .layers
+            .len(),
+        before + 1
+    );
+
+    // Run the first scenario; the log fills while it runs and the run appears.
+    step(&mut h, "Runs");
+    h.get_by_label("Run").click();
+    h.step();
+    assert!(
+        h.state().job.as_ref().is_some_and(|j| j.running()),
+        "no run started"
+    );
+    let mut saw_iterations = false;
+    let t = Instant::now();
+    while h.state().job.is_some() {
+        assert!(
+            t.elapsed() < Duration::from_secs(180),
+            "the run did not finish:\n{}",
+            h.state().log.join("\n")
+        );
+        std::thread::sleep(Duration::from_millis(50));
+        h.step();
+        saw_iterations |= h
+            .state()
+            .job
+            .as_ref()
+            .is_some_and(|j| !j.iterations.is_empty());
+    }
+    let app = h.state();
+    assert!(
+        app.log
+            .iter()
+            .any(|l| l.contains("inversion/smooth") && l.contains("chi-factor")),
+        "{}",
+        app.log.join("\n")
+    );
+    assert!(
+        saw_iterations || !app.views.last_iterations.is_empty(),
+        "the run log never filled"
+    );
+    let run = app
+        .doc
+        .as_ref()
+        .unwrap()
+        .views
+        .runs
+        .get("smooth")
+        .expect("the run is listed");
+    assert!((run.file.summary.chi_factor - 1.0).abs() < 0.05);
+    // The polygon's upper bound of 0 holds in the model.
+    assert!(run.log.len() > 1);
+
+    // Export the east-west section as PNG.
+    step(&mut h, "Results");
+    h.get_by_label("Section east-west").click();
+    h.run_steps(3);
+    h.get_by_label("Export section PNG").click();
+    h.run_steps(2);
+    let png = dir.join("runs/smooth/window_section_ew.png");
+    let bytes = std::fs::read(&png).unwrap_or_else(|e| {
+        panic!(
+            "{}: {e}; message {:?}",
+            png.display(),
+            h.state().forms.export_message
+        )
+    });
+    assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
+    let dec = png::Decoder::new(std::io::Cursor::new(bytes))
+        .read_info()
+        .unwrap();
+    assert_eq!((dec.info().width, dec.info().height), (1000, 560));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_csv_is_imported_through_the_form_with_a_role_changed() {
+    let dir = demo("import");
+    let csv = dir.join("crew_gravity.csv");
+    std::fs::write(&csv, "E,N,elev,reading,stn\n452000,5401000,312.0,4320.15,A1\n452050,5401000,315.1,4319.51,A2\n452100,5401000,316.0,4319.00,A3\n").unwrap();
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    step(&mut h, "Survey");
+    let field = h.get_by_role(Role::TextInput);
+    field.focus();
+    h.step();
+    h.get_by_role(Role::TextInput)
+        .type_text(&csv.display().to_string());
+    h.run_steps(2);
+    h.get_by_label("Preview").click();
+    h.run_steps(3);
+    let pv = h.state().forms.import_preview.clone().expect("no preview");
+    assert_eq!(pv.n_rows, 3);
+    // The station column is guessed; the user sets it to be ignored.
+    h.get_by_value("station").click();
+    h.run_steps(2);
+    h.get_by_label("ignore").click();
+    h.run_steps(2);
+    h.get_by_label("Import as gravity survey").click();
+    h.run_steps(3);
+    let p = &h.state().doc.as_ref().unwrap().project;
+    let g = p.gravity.as_ref().unwrap();
+    assert_eq!(
+        g.file,
+        "inputs/crew_gravity_imported.csv",
+        "{:?}",
+        h.state().forms.import_message
+    );
+    let text = std::fs::read_to_string(dir.join(&g.file)).unwrap();
+    assert!(
+        text.lines().nth(1).unwrap() == "x,y,height_m,gravity_mgal",
+        "{text}"
+    );
+    assert!(!text.contains("A1"));
+    std::fs::remove_dir_all(&dir).ok();
+}
