@@ -515,12 +515,7 @@ fn mesh_step(dir: &Path, p: &ProjectFile, ctx: &mut Context) -> Result<String, S
         &data_path(dir, "mesh.json"),
         &serde_json::to_string_pretty(&desc).unwrap_or_default(),
     )?;
-    let act: Vec<f64> = m
-        .active
-        .active
-        .iter()
-        .map(|a| if *a { 1.0 } else { 0.0 })
-        .collect();
+    let act: Vec<f64> = m.active.as_values();
     write_npy(&data_path(dir, "active.npy"), &m.mesh, &act).map_err(|e| e.to_string())?;
     let [nx, ny, nz] = m.mesh.shape();
     Ok(format!(

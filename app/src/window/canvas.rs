@@ -423,22 +423,8 @@ pub fn section(
             inner.top() + ((zmax - z) * sz) as f32,
         )
     };
-    let mut dists: Vec<f64> = samples.iter().map(|s| s.distance_m).collect();
-    dists.sort_by(|a, b| a.total_cmp(b));
-    dists.dedup();
-    let half = |i: usize| {
-        let a = if i == 0 {
-            dists[0]
-        } else {
-            0.5 * (dists[i - 1] + dists[i])
-        };
-        let b = if i + 1 == dists.len() {
-            dists[i]
-        } else {
-            0.5 * (dists[i] + dists[i + 1])
-        };
-        (a, b)
-    };
+    let (dists, spans) = fieldstone_core::export::section::distance_spans(samples);
+    let half = |i: usize| spans[i];
     let mut hovered = None;
     let hp = resp.hover_pos();
     for s in samples {

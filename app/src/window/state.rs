@@ -60,6 +60,9 @@ pub struct RunView {
     pub log: Vec<IterationRecord>,
 }
 
+/// A drill hole for the map: id, collar and points along its trace.
+pub type HoleTrace = (String, [f64; 3], Vec<[f64; 3]>);
+
 /// What the views draw.
 #[derive(Default)]
 pub struct Views {
@@ -68,7 +71,7 @@ pub struct Views {
     pub magnetic_reduced: Option<Readings>,
     pub grids: BTreeMap<String, Grid2>,
     pub model: Option<ModelContext>,
-    pub holes: Vec<(String, [f64; 3], Vec<[f64; 3]>)>,
+    pub holes: Vec<HoleTrace>,
     pub runs: BTreeMap<String, RunView>,
     pub problems: Vec<String>,
 }

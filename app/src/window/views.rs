@@ -62,36 +62,31 @@ fn extent(app: &FieldstoneApp) -> Option<[f64; 4]> {
     Some([m.mesh.x[i0], m.mesh.x[i1], m.mesh.y[j0], m.mesh.y[j1]])
 }
 
-fn collars(app: &FieldstoneApp) -> Vec<([f64; 2], String)> {
+fn holes(app: &FieldstoneApp) -> &[super::state::HoleTrace] {
     app.doc
         .as_ref()
-        .map(|d| {
-            d.views
-                .holes
-                .iter()
-                .map(|(id, c, _)| ([c[0], c[1]], id.clone()))
-                .collect()
-        })
-        .unwrap_or_default()
+        .map(|d| d.views.holes.as_slice())
+        .unwrap_or(&[])
+}
+
+fn collars(app: &FieldstoneApp) -> Vec<([f64; 2], String)> {
+    holes(app)
+        .iter()
+        .map(|(id, c, _)| ([c[0], c[1]], id.clone()))
+        .collect()
 }
 
 fn traces(app: &FieldstoneApp) -> Vec<(Vec<[f64; 2]>, Color32, bool)> {
-    app.doc
-        .as_ref()
-        .map(|d| {
-            d.views
-                .holes
-                .iter()
-                .map(|(_, _, t)| {
-                    (
-                        t.iter().map(|p| [p[0], p[1]]).collect(),
-                        Color32::BLACK,
-                        false,
-                    )
-                })
-                .collect()
+    holes(app)
+        .iter()
+        .map(|(_, _, t)| {
+            (
+                t.iter().map(|p| [p[0], p[1]]).collect(),
+                Color32::BLACK,
+                false,
+            )
         })
-        .unwrap_or_default()
+        .collect()
 }
 
 fn section_lines(app: &FieldstoneApp) -> Vec<(Vec<[f64; 2]>, Color32, bool)> {
@@ -407,12 +402,7 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
         ui.label("No mesh: set a recipe in the form.");
         return;
     };
-    let act: Vec<f64> = m
-        .active
-        .active
-        .iter()
-        .map(|a| if *a { 1.0 } else { 0.0 })
-        .collect();
+    let act: Vec<f64> = m.active.as_values();
     let mesh = m.mesh.clone();
     let (x, y) = (&mesh.x, &mesh.y);
     let [(i0, i1), (j0, j1), _] = mesh.core;

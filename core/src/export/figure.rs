@@ -483,25 +483,8 @@ pub fn section_figure(
     f.text(80.0, 28.0, 15.0, Anchor::Start, title);
     // Samples sit at cell centres; each is drawn as the cell column between
     // half-way points along the line and its layer bounds.
-    let dists: Vec<f64> = {
-        let mut d: Vec<f64> = samples.iter().map(|s| s.distance_m).collect();
-        d.sort_by(|a, b| a.total_cmp(b));
-        d.dedup();
-        d
-    };
-    let half = |i: usize| -> (f64, f64) {
-        let a = if i == 0 {
-            dists[0]
-        } else {
-            0.5 * (dists[i - 1] + dists[i])
-        };
-        let b = if i + 1 == dists.len() {
-            dists[i]
-        } else {
-            0.5 * (dists[i] + dists[i + 1])
-        };
-        (a, b)
-    };
+    let (dists, spans) = crate::export::section::distance_spans(samples);
+    let half = |i: usize| spans[i];
     for s in samples {
         if !s.value.is_finite() {
             continue;

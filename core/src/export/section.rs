@@ -15,6 +15,30 @@ pub struct SectionSample {
     pub value: f64,
 }
 
+/// The distinct sample distances of a section, sorted, and for each the span
+/// (from, to) half-way to its neighbours: the column a sample stands for.
+pub fn distance_spans(samples: &[SectionSample]) -> (Vec<f64>, Vec<(f64, f64)>) {
+    let mut d: Vec<f64> = samples.iter().map(|s| s.distance_m).collect();
+    d.sort_by(|a, b| a.total_cmp(b));
+    d.dedup();
+    let spans = (0..d.len())
+        .map(|i| {
+            let a = if i == 0 {
+                d[0]
+            } else {
+                0.5 * (d[i - 1] + d[i])
+            };
+            let b = if i + 1 == d.len() {
+                d[i]
+            } else {
+                0.5 * (d[i] + d[i + 1])
+            };
+            (a, b)
+        })
+        .collect();
+    (d, spans)
+}
+
 /// Samples `values` along a polyline every `step_m`, in every layer.
 pub fn section(
     mesh: &TensorMesh,

@@ -20,6 +20,14 @@ pub struct ActiveCells {
 }
 
 impl ActiveCells {
+    /// 1 for active cells, 0 for air (for views and exports).
+    pub fn as_values(&self) -> Vec<f64> {
+        self.active
+            .iter()
+            .map(|a| if *a { 1.0 } else { 0.0 })
+            .collect()
+    }
+
     pub fn count(&self) -> usize {
         self.active.iter().filter(|a| **a).count()
     }
