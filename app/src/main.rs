@@ -36,6 +36,10 @@ enum Command {
     Reduce(commands::reduce::ReduceCommand),
     /// Write the invented demo project (a complete project folder).
     Demo(commands::demo::DemoArgs),
+    /// Build a scenario's constraint arrays on the mesh and write them (VTK, NumPy).
+    Constraints(commands::constraints::ConstraintsArgs),
+    /// Export a run's model, constraints, sections, plan slices or data.
+    Export(commands::export::ExportArgs),
     /// Run every stale step of a project: import, reduce, grid, regional,
     /// mesh, constraints, inversion, exports.
     Run(commands::run::RunArgs),
@@ -52,6 +56,8 @@ fn main() -> ExitCode {
         Some(Command::Reduce(cmd)) => commands::reduce::run(&cmd),
         Some(Command::Demo(args)) => commands::demo::run(&args),
         Some(Command::Run(args)) => commands::run::run(&args),
+        Some(Command::Constraints(args)) => commands::constraints::run(&args),
+        Some(Command::Export(args)) => commands::export::run(&args),
         None => fieldstone::window::open(cli.project.as_deref()),
     };
     match result {

@@ -121,6 +121,86 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         "a forced rerun changed the model"
     );
 
+    // The constraint arrays and exports from the command line.
+    let cons = dir.join("constraint-arrays");
+    let o = bin()
+        .arg("constraints")
+        .arg(&dir)
+        .args(["--scenario", "drilling_cover_contact", "--out"])
+        .arg(&cons)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let report: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(cons.join("constraints.json")).unwrap())
+            .unwrap();
+    assert_eq!(report[0]["scenario"], "drilling_cover_contact");
+    assert!(report[0]["bounded_cells"].as_u64().unwrap() > 1000);
+    // Upper bounds on the .npy: −0.3 in the cover, 0.45 elsewhere, ≤ 0.45 everywhere active.
+    let npy = std::fs::read(cons.join("drilling_cover_contact_upper.npy")).unwrap();
+    let hl = u16::from_le_bytes([npy[8], npy[9]]) as usize;
+    let up: Vec<f64> = npy[10 + hl..]
+        .chunks_exact(8)
+        .map(|c| f64::from_le_bytes(c.try_into().unwrap()))
+        .collect();
+    assert_eq!(up.len(), m.mesh.n_cells());
+    assert!(
+        up.iter().any(|v| (*v + 0.3).abs() < 1e-12) && up.iter().any(|v| (*v - 0.45).abs() < 1e-12)
+    );
+    for (what, format, extra, check) in [
+        (
+            "section",
+            "png",
+            vec!["--line", "452000,5401300;453500,5401300"],
+            &b"\x89PNG"[..],
+        ),
+        (
+            "section",
+            "svg",
+            vec!["--line", "452000,5401300;453500,5401300"],
+            &b"<?xml"[..],
+        ),
+        ("slice", "tif", vec!["--depth-m", "100"], &b"II"[..]),
+        ("model", "vtr", vec![], &b"<?xml"[..]),
+        ("data", "csv", vec![], &b"#"[..]),
+    ] {
+        let out = dir.join(format!("export-{what}.{format}"));
+        let o = bin()
+            .arg("export")
+            .arg(&dir)
+            .args(["--scenario", "smooth", "--what", what, "--format", format])
+            .args(&extra)
+            .arg("--out")
+            .arg(&out)
+            .output()
+            .unwrap();
+        assert!(
+            o.status.success(),
+            "{what} {format}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(
+            std::fs::read(&out).unwrap().starts_with(check),
+            "{what} {format}"
+        );
+    }
+    let o = bin()
+        .arg("export")
+        .arg(&dir)
+        .args([
+            "--scenario",
+            "smooth",
+            "--what",
+            "data",
+            "--format",
+            "tif",
+            "--out",
+        ])
+        .arg(dir.join("x.tif"))
+        .output()
+        .unwrap();
+    assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("use csv"));
+
     // Staleness: a new reduction density marks reduce and everything after
     // it stale, and nothing before.
     let mut p = ProjectFile::load(&dir).unwrap().project;

@@ -43,7 +43,8 @@ pub struct GridArgs {
     /// Tension, 0 to 1 (minimum curvature only).
     #[arg(long, default_value_t = 0.25)]
     pub tension: f64,
-    /// Blank nodes farther than this from any datum, metres (default 4 cells).
+    /// Blank nodes farther than this from any datum, metres (default 4 cells
+    /// or the line spacing, whichever is larger).
     #[arg(long = "blank-m")]
     pub blank_m: Option<f64>,
     /// Also blank nodes outside the convex hull of the data.
@@ -151,7 +152,16 @@ pub fn run(a: &GridArgs) -> Result<(), String> {
         Method::Biharmonic => biharmonic(&x, &y, &v, &template, &Silent),
     }
     .map_err(|e| format!("{}: {e}", a.input.display()))?;
-    let blank = a.blank_m.unwrap_or(4.0 * a.cell);
+    // Default: four cells, but never less than the line spacing, so nodes
+    // half-way between lines keep their values (common practice).
+    let blank = a.blank_m.unwrap_or_else(|| {
+        let ls = if sp.line_spacing_m.is_finite() {
+            sp.line_spacing_m
+        } else {
+            0.0
+        };
+        (4.0 * a.cell).max(ls)
+    });
     blank_by_distance(&mut g, &x, &y, blank);
     if a.hull {
         blank_outside(&mut g, &convex_hull(&x, &y));

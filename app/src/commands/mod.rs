@@ -1,7 +1,9 @@
 //! One module per headless command; each turns its arguments into calls on
 //! `fieldstone-core` and its errors into one message for the user.
 
+pub mod constraints;
 pub mod demo;
+pub mod export;
 pub mod filter;
 pub mod forward;
 pub mod grid;

@@ -476,7 +476,7 @@ fn regional(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String, S
     Ok(parts.join("; "))
 }
 
-fn prov(p: &ProjectFile, source: &str, units: &str) -> Provenance {
+pub fn prov(p: &ProjectFile, source: &str, units: &str) -> Provenance {
     Provenance {
         program: format!("Fieldstone {}", env!("CARGO_PKG_VERSION")),
         source: source.into(),
@@ -538,7 +538,7 @@ pub fn constraints_of(
     build(&m.mesh, &m.active, &s.layers, d, &m.inputs).map_err(|e| e.to_string())
 }
 
-fn units_of(k: DataKind) -> (&'static str, &'static str) {
+pub fn units_of(k: DataKind) -> (&'static str, &'static str) {
     match k {
         DataKind::Gravity => ("g/cm³ (density contrast)", "mGal"),
         DataKind::Magnetic => ("SI (susceptibility)", "nT"),
@@ -551,7 +551,7 @@ fn finite_or_nan(v: &[f64]) -> Vec<f64> {
         .collect()
 }
 
-fn write_constraints(
+pub fn write_constraints(
     path: &Path,
     mesh: &TensorMesh,
     c: &ConstraintArrays,

@@ -228,10 +228,12 @@ pub fn colour_bar(ui: &Ui, rect: Rect, c: &Colouring, units: &str) {
             );
         }
     }
+    // Long unit names lose their explanation in brackets to fit the bar.
+    let short = units.split(" (").next().unwrap_or(units);
     p.text(
         Pos2::new(bar.left(), bar.top() - 10.0),
         egui::Align2::LEFT_CENTER,
-        units,
+        short,
         font,
         Color32::BLACK,
     );

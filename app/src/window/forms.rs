@@ -1011,7 +1011,12 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
     if let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) {
         match constraints_of(m, &sc) {
             Ok((c, warnings)) => {
-                let fixed = c.fixed.iter().filter(|f| **f).count();
+                let fixed = c
+                    .fixed
+                    .iter()
+                    .zip(&c.active)
+                    .filter(|(f, a)| **f && **a)
+                    .count();
                 let bounded = c
                     .lower
                     .iter()

@@ -687,6 +687,8 @@ impl FieldstoneApp {
             let r = ui.selectable_label(selected, RichText::new(step.label()).size(15.0).strong());
             if r.clicked() {
                 self.step = step;
+                // Each step chooses its own grid to show.
+                self.views.grid.clear();
             }
             ui.horizontal(|ui| {
                 ui.add_space(10.0);

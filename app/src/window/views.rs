@@ -743,11 +743,10 @@ fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {
                         collars: vec![],
                         units: units.clone(),
                     };
-                    let mut frame = app.map;
+                    // Each small map fits its own panel.
+                    let mut frame = canvas::MapFrame::default();
                     let r = canvas::map(ui, &mut frame, &mut app.textures, &layers, ext);
-                    if k == 0 {
-                        app.map = frame;
-                    }
+                    let _ = k;
                     if r.hover.is_some() {
                         hover = r.hover;
                     }

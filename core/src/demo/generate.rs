@@ -747,6 +747,9 @@ pub fn demo_scenarios() -> Vec<Scenario> {
         norms: [0.0, 2.0, 2.0, 2.0],
         // Bounds and IRLS make each solve harder; more CG keeps the misfit on target.
         max_cg: 100,
+        // The misfit settles within a few reweightings; more cost time
+        // without changing the model much.
+        max_irls_iterations: 8,
         ..Default::default()
     };
     // Drilling and mapping inform the reference model, so it carries weight:
@@ -757,6 +760,9 @@ pub fn demo_scenarios() -> Vec<Scenario> {
     };
     let magnetic = InversionSettings {
         weighting: Weighting::Depth { exponent_q: 3.0 },
+        // Positivity leaves many cells at the bound; more CG per step keeps
+        // the misfit on target.
+        max_cg: 100,
         ..Default::default()
     };
     vec![

@@ -450,7 +450,13 @@ fn colour_bar(
         f.line(vec![[x + 16.0, y], [x + 20.0, y]], [60, 60, 60], 1.0);
         f.text(x + 23.0, y + 4.0, 11.0, Anchor::Start, label(v));
     }
-    f.text(x, top - 10.0, 11.0, Anchor::Start, units);
+    f.text(
+        x,
+        top - 10.0,
+        11.0,
+        Anchor::Start,
+        units.split(" (").next().unwrap_or(units),
+    );
 }
 
 /// The caution every model figure carries.
