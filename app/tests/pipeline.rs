@@ -57,6 +57,15 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
             r.summary.chi_factor
         );
         assert!(r.caution.contains("non-unique"));
+        // The recipe the model came from is recorded with it.
+        assert_eq!(
+            r.recipe_hashes["mesh"],
+            fieldstone_core::project::provenance::hash_json(&p.mesh)
+        );
+        assert_eq!(
+            r.recipe_hashes["layers"],
+            fieldstone_core::project::provenance::hash_json(&s.layers)
+        );
         // Every export the project asks for exists, figures included.
         let files: Vec<String> = serde_json::from_str(
             &std::fs::read_to_string(dir.join("runs").join(&s.name).join("exports.json")).unwrap(),
@@ -184,6 +193,50 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
             "{what} {format}"
         );
     }
+    // Defaults: a section east-west through the core centre, a slice at half
+    // the core depth; --run is the same as --scenario; the comma-only line form.
+    for args in [
+        vec!["--run", "smooth", "--what", "section", "--format", "csv"],
+        vec!["--run", "smooth", "--what", "slice", "--format", "csv"],
+        vec![
+            "--run",
+            "smooth",
+            "--what",
+            "section",
+            "--format",
+            "csv",
+            "--line",
+            "452000,5401300,452700,5401500,453500,5401500",
+        ],
+    ] {
+        let out = dir.join("default.csv");
+        let o = bin()
+            .arg("export")
+            .arg(&dir)
+            .args(&args)
+            .arg("--out")
+            .arg(&out)
+            .output()
+            .unwrap();
+        assert!(
+            o.status.success(),
+            "{args:?}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        assert!(std::fs::read_to_string(&out).unwrap().lines().count() > 10);
+    }
+    let grids = dir.join("grids-out");
+    let o = bin()
+        .arg("export")
+        .arg(&dir)
+        .args([
+            "--run", "smooth", "--what", "grids", "--format", "tif", "--out",
+        ])
+        .arg(&grids)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(grids.join("gravity_residual.tif").exists());
     let o = bin()
         .arg("export")
         .arg(&dir)

@@ -22,6 +22,8 @@ pub enum What {
     Slice,
     /// Observed, predicted and residual data of a run.
     Data,
+    /// Every grid of the project (data, regional, residual) into the folder --out.
+    Grids,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -37,7 +39,8 @@ pub enum Format {
 #[derive(Debug, Args)]
 pub struct ExportArgs {
     pub project_dir: PathBuf,
-    #[arg(long)]
+    /// The scenario whose run to export.
+    #[arg(long, alias = "run")]
     pub scenario: String,
     #[arg(long, value_enum)]
     pub what: What,
@@ -45,7 +48,8 @@ pub struct ExportArgs {
     pub format: Format,
     #[arg(long)]
     pub out: PathBuf,
-    /// Section vertices "x,y;x,y;..." in project coordinates, metres.
+    /// Section vertices "x,y;x,y;..." or "x1,y1,x2,y2,...", project coordinates in
+    /// metres (default: east-west through the centre of the core).
     #[arg(long)]
     pub line: Option<String>,
     #[arg(long = "depth-m", allow_hyphen_values = true)]
@@ -55,6 +59,17 @@ pub struct ExportArgs {
 }
 
 fn parse_line(s: &str) -> Result<Vec<[f64; 2]>, String> {
+    if !s.contains(';') {
+        let v: Vec<f64> = s
+            .split(',')
+            .map(|t| t.trim().parse::<f64>())
+            .collect::<Result<_, _>>()
+            .map_err(|_| format!("--line: '{s}' is not x1,y1,x2,y2,... in metres"))?;
+        if v.len() < 4 || !v.len().is_multiple_of(2) {
+            return Err(format!("--line: '{s}' needs at least two x,y pairs"));
+        }
+        return Ok(v.chunks(2).map(|c| [c[0], c[1]]).collect());
+    }
     s.split(';')
         .map(|v| {
             let xy: Vec<f64> = v
@@ -78,6 +93,7 @@ fn refuse(what: What, f: Format) -> String {
             What::Section => "csv, png or svg",
             What::Slice => "tif, csv, png or svg",
             What::Data => "csv",
+            What::Grids => "tif (into a folder)",
         }
     )
     .to_lowercase()
@@ -161,11 +177,12 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
             }
         }
         (What::Section, f @ (Format::Csv | Format::Png | Format::Svg)) => {
-            let line = parse_line(
-                a.line
-                    .as_deref()
-                    .ok_or("--what section needs --line \"x,y;x,y\"")?,
-            )?;
+            let [(i0, i1), (j0, j1), _] = m.mesh.core;
+            let yc = 0.5 * (m.mesh.y[j0] + m.mesh.y[j1]);
+            let line = match a.line.as_deref() {
+                Some(l) => parse_line(l)?,
+                None => vec![[m.mesh.x[i0], yc], [m.mesh.x[i1], yc]],
+            };
             let step = m.mesh.x[m.mesh.core[0].0 + 1] - m.mesh.x[m.mesh.core[0].0];
             let samples = section(&m.mesh, &model()?, &line, step).map_err(e)?;
             match f {
@@ -197,7 +214,15 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
             let level = match (a.depth_m, a.elevation_m) {
                 (Some(d), None) => SliceLevel::Depth(d),
                 (None, Some(z)) => SliceLevel::Elevation(z),
-                _ => return Err("--what slice needs one of --depth-m or --elevation-m".into()),
+                (None, None) => {
+                    let (k0, k1) = m.mesh.core[2];
+                    SliceLevel::Depth(0.5 * (m.mesh.z[k1] - m.mesh.z[k0]))
+                }
+                _ => {
+                    return Err(
+                        "--what slice takes one of --depth-m or --elevation-m, not both".into(),
+                    )
+                }
             };
             let g = plan_slice(&m.mesh, &model()?, level, Some(&m.active.surface_m)).map_err(e)?;
             match f {
@@ -228,6 +253,22 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
             std::fs::copy(&src, &a.out)
                 .map_err(|er| format!("{}: {er} (run the scenario first)", src.display()))?;
             let _ = du;
+        }
+        (What::Grids, Format::Tif) => {
+            std::fs::create_dir_all(&a.out).map_err(|er| format!("{}: {er}", a.out.display()))?;
+            let data = a.project_dir.join("data");
+            let mut n = 0;
+            for entry in std::fs::read_dir(&data)
+                .map_err(|er| format!("{}: {er} (run the project first)", data.display()))?
+            {
+                let path = entry.map_err(|er| er.to_string())?.path();
+                if path.extension().is_some_and(|e| e == "tif") {
+                    let to = a.out.join(path.file_name().unwrap_or_default());
+                    std::fs::copy(&path, &to).map_err(|er| format!("{}: {er}", to.display()))?;
+                    n += 1;
+                }
+            }
+            eprintln!("{n} grids copied");
         }
         (w, f) => return Err(refuse(w, f)),
     }

@@ -28,6 +28,7 @@ use fieldstone_core::operator::fft::FftOperator;
 use fieldstone_core::operator::Operator;
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{DataKind, OperatorChoice, ProjectFile, Scenario};
+use fieldstone_core::project::provenance::hash_json;
 use fieldstone_core::reduce::gravity::FreeAir;
 use fieldstone_core::table::passthrough::read_passthrough;
 use fieldstone_core::table::TextOptions;
@@ -702,6 +703,10 @@ pub struct RunFile {
     #[serde(flatten)]
     pub summary: fieldstone_core::invert::RunSummary,
     pub truth_comparison: Option<TruthComparison>,
+    /// SHA-256 of the JSON of the mesh recipe, the constraint layers and the
+    /// inversion settings this model came from.
+    #[serde(default)]
+    pub recipe_hashes: std::collections::BTreeMap<String, String>,
     pub caution: String,
 }
 
@@ -909,6 +914,14 @@ fn inversion(
         program: pv.program.clone(),
         summary: result.summary.clone(),
         truth_comparison: comparison.clone(),
+        recipe_hashes: [
+            ("mesh", hash_json(&p.mesh)),
+            ("layers", hash_json(&s.layers)),
+            ("settings", hash_json(&s.settings)),
+        ]
+        .into_iter()
+        .map(|(k, v)| (k.to_string(), v))
+        .collect(),
         caution: CAUTION.into(),
     };
     write_text(
