@@ -30,6 +30,23 @@ fn summary(dir: &Path, s: &str) -> RunFile {
     serde_json::from_str(&t).unwrap()
 }
 
+/// Runs `fieldstone export DIR ARGS --out OUT` and asserts that it succeeded.
+fn export_ok(dir: &Path, args: &[&str], out: &Path) {
+    let o = bin()
+        .arg("export")
+        .arg(dir)
+        .args(args)
+        .arg("--out")
+        .arg(out)
+        .output()
+        .unwrap();
+    assert!(
+        o.status.success(),
+        "{args:?}: {}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+}
+
 #[test]
 fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
     let dir = scratch("demo");
@@ -174,20 +191,9 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         ("data", "csv", vec![], &b"#"[..]),
     ] {
         let out = dir.join(format!("export-{what}.{format}"));
-        let o = bin()
-            .arg("export")
-            .arg(&dir)
-            .args(["--scenario", "smooth", "--what", what, "--format", format])
-            .args(&extra)
-            .arg("--out")
-            .arg(&out)
-            .output()
-            .unwrap();
-        assert!(
-            o.status.success(),
-            "{what} {format}: {}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        let mut args = vec!["--scenario", "smooth", "--what", what, "--format", format];
+        args.extend(extra);
+        export_ok(&dir, &args, &out);
         assert!(
             std::fs::read(&out).unwrap().starts_with(check),
             "{what} {format}"
@@ -210,32 +216,15 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         ],
     ] {
         let out = dir.join("default.csv");
-        let o = bin()
-            .arg("export")
-            .arg(&dir)
-            .args(&args)
-            .arg("--out")
-            .arg(&out)
-            .output()
-            .unwrap();
-        assert!(
-            o.status.success(),
-            "{args:?}: {}",
-            String::from_utf8_lossy(&o.stderr)
-        );
+        export_ok(&dir, &args, &out);
         assert!(std::fs::read_to_string(&out).unwrap().lines().count() > 10);
     }
     let grids = dir.join("grids-out");
-    let o = bin()
-        .arg("export")
-        .arg(&dir)
-        .args([
-            "--run", "smooth", "--what", "grids", "--format", "tif", "--out",
-        ])
-        .arg(&grids)
-        .output()
-        .unwrap();
-    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    export_ok(
+        &dir,
+        &["--run", "smooth", "--what", "grids", "--format", "tif"],
+        &grids,
+    );
     assert!(grids.join("gravity_residual.tif").exists());
     let o = bin()
         .arg("export")
