@@ -181,12 +181,20 @@ fn unreadable_files_and_overwriting_the_input_are_refused() {
 }
 
 #[test]
-fn no_subcommand_prints_help_with_the_cautions() {
-    let o = bin().output().unwrap();
+fn help_lists_the_commands_with_the_cautions() {
+    // Without a subcommand the program opens the window, so the help is asked for.
+    let o = bin().arg("--help").output().unwrap();
     assert!(o.status.success());
     let s = String::from_utf8_lossy(&o.stdout);
-    assert!(
-        s.contains("forward") && s.contains("non-unique") && s.contains("qualified person"),
-        "{s}"
-    );
+    for c in [
+        "forward",
+        "run",
+        "demo",
+        "constraints",
+        "export",
+        "non-unique",
+        "qualified person",
+    ] {
+        assert!(s.contains(c), "{c} missing from the help:\n{s}");
+    }
 }

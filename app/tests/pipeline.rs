@@ -263,6 +263,22 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
     std::fs::write(&g, text).unwrap();
     let st = project_states(&dir, &p).unwrap();
     assert_eq!(st[0].1, StepState::Stale);
+    // Rejected readings leave the gridding and the inversion, not the file.
+    let stations = |d: &Path| {
+        std::fs::read_to_string(d.join("data/gravity_stations.csv"))
+            .unwrap()
+            .lines()
+            .count()
+    };
+    let before = stations(&dir);
+    p.gravity.as_mut().unwrap().rejected_rows = vec![1, 2, 3];
+    p.save(&dir).unwrap();
+    let log = run(&["--scenario", "smooth"], &dir);
+    assert!(
+        log.contains("reduce") && !log.contains("0 steps ran"),
+        "{log}"
+    );
+    assert_eq!(stations(&dir), before - 3);
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -297,6 +313,7 @@ fn run_refuses_bad_projects_with_a_message() {
         terrain_outer_m: None,
         uncertainty_floor_mgal: 0.02,
         uncertainty_percent: 0.0,
+        rejected_rows: vec![],
     });
     p.save(&dir).unwrap();
     let o = bin().arg("run").arg(&dir).output().unwrap();

@@ -2,7 +2,7 @@
 
 use crate::pipeline::{self};
 use clap::{Args, ValueEnum};
-use fieldstone_core::export::figure::{grid_figure, section_figure};
+use fieldstone_core::export::figure::grid_figure;
 use fieldstone_core::export::section::{plan_slice, section, SliceLevel};
 use fieldstone_core::export::voxel::{write_cell_table, write_npy, write_vtr, CellArray};
 use fieldstone_core::grid::geotiff::write_geotiff;
@@ -199,12 +199,14 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                     pipeline::write_text(&a.out, &t)?;
                 }
                 _ => {
-                    let fig = section_figure(
+                    let fig = pipeline::run_section_figure(
+                        &a.project_dir,
+                        &p,
+                        &m,
+                        s,
                         &samples,
-                        &m.mesh.z,
-                        &pipeline::terrain_along(&m, &samples),
+                        &line,
                         &format!("{} — section", s.name),
-                        mu,
                     );
                     write_figure(&a.out, &fig, f)?;
                 }

@@ -14,8 +14,9 @@ mod steps;
 
 pub use data::{load_points, Points};
 pub use steps::{
-    constraints_of, load_model, load_model_context, prov, scenario_data, terrain_along, units_of,
-    write_constraints, ModelContext, RunFile, TruthComparison, CAUTION,
+    constraints_of, load_model, load_model_context, prov, read_predicted, run_section_figure,
+    scenario_data, terrain_along, units_of, write_constraints, ModelContext, RunFile,
+    TruthComparison, CAUTION,
 };
 
 use fieldstone_core::progress::Observer;

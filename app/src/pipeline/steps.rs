@@ -10,8 +10,8 @@ use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::demo::truth::TrueModel;
 use fieldstone_core::drillhole::tables::{load_holes, DrillholeSpec};
 use fieldstone_core::drillhole::DipConvention;
-use fieldstone_core::export::figure::{grid_figure, section_figure};
-use fieldstone_core::export::section::{plan_slice, section, SliceLevel};
+use fieldstone_core::export::figure::{grid_figure, section_figure_with, SectionExtras};
+use fieldstone_core::export::section::{plan_slice, project_onto_line, section, SliceLevel};
 use fieldstone_core::export::voxel::{
     mesh_description, write_npy, write_vtr, CellArray, Provenance,
 };
@@ -309,6 +309,9 @@ fn reduce(dir: &Path, p: &ProjectFile) -> Result<String, String> {
                 if &t.text(k, c) == b {
                     continue;
                 }
+            }
+            if g.rejected_rows.contains(&k) {
+                continue;
             }
             pts.xyz.push([x[k], y[k], h[k]]);
             pts.value.push(cba[k]);
@@ -993,6 +996,121 @@ pub fn load_model(dir: &Path, scenario: &str, n_cells: usize) -> Result<Vec<f64>
         .collect())
 }
 
+/// Observed points (with uncertainty) and predicted values from a run's `predicted.csv`.
+pub fn read_predicted(path: &Path) -> Option<(Points, Vec<f64>)> {
+    let text = std::fs::read_to_string(path).ok()?;
+    let mut obs = Points::default();
+    let mut pred = Vec::new();
+    for line in text.lines().filter(|l| !l.starts_with('#')).skip(1) {
+        let v: Vec<f64> = line.split(',').filter_map(|s| s.parse().ok()).collect();
+        if v.len() >= 7 {
+            obs.xyz.push([v[0], v[1], v[2]]);
+            obs.value.push(v[3]);
+            pred.push(v[4]);
+            obs.uncertainty.push(v[6]);
+        }
+    }
+    Some((obs, pred))
+}
+
+/// Drill holes and data near a section line, for its figure: holes and data
+/// within `max_off_m` of the line are projected onto it.
+pub fn section_extras(
+    m: &ModelContext,
+    line: &[[f64; 2]],
+    run: Option<(&Points, &[f64])>,
+    max_off_m: f64,
+    data_units: &str,
+    caption: String,
+) -> SectionExtras {
+    let mut e = SectionExtras {
+        data_units: data_units.into(),
+        caption,
+        ..Default::default()
+    };
+    if let Some(hs) = &m.inputs.holes {
+        for h in &hs.holes {
+            let tr = fieldstone_core::drillhole::desurvey::Trace::of(h);
+            let td = h
+                .total_depth_m
+                .or(h.intervals.last().map(|i| i.to_m))
+                .unwrap_or(0.0);
+            let pts: Vec<[f64; 2]> = (0..=20)
+                .map(|k| tr.at(td * k as f64 / 20.0))
+                .filter_map(|p| {
+                    project_onto_line(line, [p[0], p[1]])
+                        .filter(|(_, off)| *off <= max_off_m)
+                        .map(|(d, _)| [d, p[2]])
+                })
+                .collect();
+            if pts.len() > 1 {
+                e.holes.push((h.id.clone(), pts));
+            }
+        }
+    }
+    if let Some((obs, pred)) = run {
+        let mut rows: Vec<(f64, f64, f64)> = obs
+            .xyz
+            .iter()
+            .zip(obs.value.iter().zip(pred))
+            .filter_map(|(p, (o, q))| {
+                project_onto_line(line, [p[0], p[1]])
+                    .filter(|(_, off)| *off <= max_off_m)
+                    .map(|(d, _)| (d, *o, *q))
+            })
+            .collect();
+        rows.sort_by(|a, b| a.0.total_cmp(&b.0));
+        e.observed = rows.iter().map(|r| [r.0, r.1]).collect();
+        e.predicted = rows.iter().map(|r| [r.0, r.2]).collect();
+    }
+    e
+}
+
+/// The figure of a section of a scenario's model: terrain, drill holes and
+/// data within one core cell of the line, the caption with project, run and
+/// date.
+pub fn run_section_figure(
+    dir: &Path,
+    p: &ProjectFile,
+    m: &ModelContext,
+    s: &Scenario,
+    samples: &[fieldstone_core::export::section::SectionSample],
+    line: &[[f64; 2]],
+    title: &str,
+) -> fieldstone_core::export::figure::Figure {
+    let (mu, du) = units_of(s.data);
+    let cell = m.mesh.x[m.mesh.core[0].0 + 1] - m.mesh.x[m.mesh.core[0].0];
+    let run = read_predicted(&run_dir(dir, &s.name).join("predicted.csv"));
+    let caption = format!("{} — scenario {} — {}", p.name, s.name, now_date());
+    let extras = section_extras(
+        m,
+        line,
+        run.as_ref().map(|(o, q)| (o, q.as_slice())),
+        cell,
+        du,
+        caption,
+    );
+    section_figure_with(
+        samples,
+        &m.mesh.z,
+        &terrain_along(m, samples),
+        title,
+        mu,
+        &extras,
+    )
+}
+
+fn now_date() -> String {
+    let t = std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map(|d| d.as_secs_f64())
+        .unwrap_or(0.0);
+    fieldstone_core::survey::time::format_iso(t)
+        .chars()
+        .take(10)
+        .collect()
+}
+
 /// Terrain elevation under each distinct sample position of a section.
 pub fn terrain_along(
     m: &ModelContext,
@@ -1041,12 +1159,14 @@ fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Resu
         write_text(&rd.join(&f), &csv)?;
         files.push(f);
         if p.exports.figures {
-            let fig = section_figure(
+            let fig = run_section_figure(
+                dir,
+                p,
+                m,
+                s,
                 &samples,
-                &m.mesh.z,
-                &terrain_along(m, &samples),
+                &line.vertices,
                 &format!("{} — section {}", s.name, line.name),
-                mu,
             );
             for (ext, bytes) in [("png", fig.png()), ("svg", fig.svg().into_bytes())] {
                 let f = format!("section_{}.{ext}", super::safe_name(&line.name));

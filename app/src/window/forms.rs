@@ -161,6 +161,7 @@ pub fn import_into(
             terrain_outer_m: old.as_ref().and_then(|g| g.terrain_outer_m),
             uncertainty_floor_mgal: 0.02,
             uncertainty_percent: 0.0,
+            rejected_rows: vec![],
         });
     } else {
         p.magnetic = Some(MagneticInput {

@@ -256,7 +256,8 @@ impl Doc {
                         .and_then(|t| serde_json::from_str(&t).ok())
                         .unwrap_or_default();
                     let (observed, predicted) =
-                        read_predicted(&rd.join("predicted.csv")).unwrap_or_default();
+                        crate::pipeline::read_predicted(&rd.join("predicted.csv"))
+                            .unwrap_or_default();
                     v.runs.insert(
                         s.name.clone(),
                         RunView {
@@ -274,22 +275,6 @@ impl Doc {
         }
         self.views = v;
     }
-}
-
-fn read_predicted(path: &Path) -> Option<(Points, Vec<f64>)> {
-    let text = std::fs::read_to_string(path).ok()?;
-    let mut obs = Points::default();
-    let mut pred = Vec::new();
-    for line in text.lines().filter(|l| !l.starts_with('#')).skip(1) {
-        let v: Vec<f64> = line.split(',').filter_map(|s| s.parse().ok()).collect();
-        if v.len() >= 7 {
-            obs.xyz.push([v[0], v[1], v[2]]);
-            obs.value.push(v[3]);
-            pred.push(v[4]);
-            obs.uncertainty.push(v[6]);
-        }
-    }
-    Some((obs, pred))
 }
 
 /// Loads the points table of a data kind, when the pipeline has made it.

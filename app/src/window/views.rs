@@ -5,7 +5,7 @@ use super::canvas::{self, Colouring, GridLayer, MapLayers};
 use super::{FieldstoneApp, Step};
 use egui::{Color32, RichText, Ui};
 use egui_plot::{Bar, BarChart, HLine, Legend, Line, Plot, Points};
-use fieldstone_core::export::figure::{grid_figure, section_figure};
+use fieldstone_core::export::figure::grid_figure;
 use fieldstone_core::export::section::{plan_slice, section, SectionSample, SliceLevel};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
@@ -279,8 +279,16 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
         map_h = ui.min_rect().height();
     });
     let _ = map_h;
-    // Profile of the selected line.
+    // Profile of the selected line; click a reading to reject it (or restore it).
+    let rejected: Vec<usize> = app
+        .doc
+        .as_ref()
+        .and_then(|d| d.project.gravity.as_ref())
+        .map(|g| g.rejected_rows.clone())
+        .unwrap_or_default();
     let mut prof: Vec<[f64; 2]> = Vec::new();
+    let mut rows: Vec<usize> = Vec::new();
+    let mut out: Vec<[f64; 2]> = Vec::new();
     if !sel.is_empty() {
         let (x0, y0) = (r.x[sel[0]], r.y[sel[0]]);
         let mut s: Vec<usize> = sel.clone();
@@ -289,14 +297,21 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
         });
         for k in s {
             if let Some(v) = values.get(k) {
-                prof.push([(r.x[k] - x0).hypot(r.y[k] - y0), *v]);
+                let q = [(r.x[k] - x0).hypot(r.y[k] - y0), *v];
+                if rejected.contains(&k) {
+                    out.push(q);
+                } else {
+                    prof.push(q);
+                }
+                rows.push(k);
             }
         }
     }
     let spikes = flagged(&prof);
-    Plot::new("profile")
+    let all: Vec<[f64; 2]> = prof.iter().chain(&out).copied().collect();
+    let clicked = Plot::new("profile")
         .legend(Legend::default())
-        .x_axis_label("distance along the line (m)")
+        .x_axis_label("distance along the line (m) — click a reading to reject or restore it")
         .y_axis_label(col.clone())
         .show(ui, |p| {
             p.line(Line::new(
@@ -311,7 +326,67 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
                         .color(Color32::RED),
                 );
             }
-        });
+            if !out.is_empty() {
+                p.points(
+                    Points::new("rejected", out.clone())
+                        .radius(4.0)
+                        .shape(egui_plot::MarkerShape::Cross)
+                        .color(Color32::GRAY),
+                );
+            }
+            if p.response().clicked() {
+                p.pointer_coordinate()
+            } else {
+                None
+            }
+        })
+        .inner;
+    if let Some(c) = clicked {
+        // The reading nearest the click along the line.
+        let (mut order, mut positions): (Vec<usize>, Vec<[f64; 2]>) = (Vec::new(), Vec::new());
+        let (x0, y0) = sel
+            .first()
+            .map(|k| (r.x[*k], r.y[*k]))
+            .unwrap_or((0.0, 0.0));
+        for k in &rows {
+            order.push(*k);
+            positions.push([
+                (r.x[*k] - x0).hypot(r.y[*k] - y0),
+                values.get(*k).copied().unwrap_or(f64::NAN),
+            ]);
+        }
+        let _ = all;
+        if let Some(i) = (0..positions.len()).min_by(|a, b| {
+            (positions[*a][0] - c.x)
+                .abs()
+                .total_cmp(&(positions[*b][0] - c.x).abs())
+        }) {
+            toggle_rejected(app, order[i]);
+        }
+    }
+}
+
+/// Rejects a reading (row of the gravity table) or restores it; undoable.
+pub fn toggle_rejected(app: &mut FieldstoneApp, row: usize) {
+    let Some(d) = app.doc.as_mut() else { return };
+    if d.read_only.is_some() {
+        return;
+    }
+    d.before_edit();
+    if let Some(g) = d.project.gravity.as_mut() {
+        match g.rejected_rows.iter().position(|r| *r == row) {
+            Some(i) => {
+                g.rejected_rows.remove(i);
+                app.log.push(format!("reading on row {} restored", row + 1));
+            }
+            None => {
+                g.rejected_rows.push(row);
+                g.rejected_rows.sort_unstable();
+                app.log.push(format!("reading on row {} rejected (left out of gridding and inversion; the file is unchanged)", row + 1));
+            }
+        }
+    }
+    d.refresh_states();
 }
 
 /// Readings whose fourth difference stands out (spike detector, common practice).
@@ -598,8 +673,14 @@ fn run_log(app: &mut FieldstoneApp, ui: &mut Ui) {
         });
 }
 
-/// Section samples, terrain line, layer tops and title.
-type SectionView = (Vec<SectionSample>, Vec<[f64; 2]>, Vec<f64>, String);
+/// Section samples, terrain line, layer tops, title and the line itself.
+type SectionView = (
+    Vec<SectionSample>,
+    Vec<[f64; 2]>,
+    Vec<f64>,
+    String,
+    Vec<[f64; 2]>,
+);
 
 /// The section of the selected run: east-west or north-south through the
 /// chosen point (the core centre until one is clicked).
@@ -628,7 +709,7 @@ fn current_section(app: &FieldstoneApp, ns: bool) -> Option<SectionView> {
         if ns { at[0] } else { at[1] },
         if ns { "E" } else { "N" }
     );
-    Some((s, terrain, m.mesh.z.clone(), title))
+    Some((s, terrain, m.mesh.z.clone(), title, line.to_vec()))
 }
 
 fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
@@ -651,7 +732,7 @@ fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
     match app.views.result_view {
         1 | 2 => {
             let ns = app.views.result_view == 2;
-            if let Some((s, terrain, z, title)) = current_section(app, ns) {
+            if let Some((s, terrain, z, title, _)) = current_section(app, ns) {
                 ui.label(RichText::new(title).strong());
                 let c = Colouring::for_values(
                     &s.iter().map(|q| q.value).collect::<Vec<_>>(),
@@ -794,19 +875,19 @@ fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {
 /// Writes the current section of the selected run as PNG or SVG into its run folder.
 pub fn export_section(app: &FieldstoneApp, ext: &str) -> String {
     let ns = app.views.result_view == 2;
-    let Some((s, terrain, z, title)) = current_section(app, ns) else {
+    let Some((s, _terrain, _z, title, line)) = current_section(app, ns) else {
         return "run the scenario first".into();
     };
     let Some(d) = app.doc.as_ref() else {
         return String::new();
     };
-    let units = d
-        .views
-        .runs
-        .get(&app.scenario_name())
-        .map(|r| r.file.model_units.clone())
-        .unwrap_or_default();
-    let fig = section_figure(&s, &z, &terrain, &title, &units);
+    let (Some(m), Some(sc)) = (
+        d.views.model.as_ref(),
+        d.project.scenarios.get(app.scenario),
+    ) else {
+        return "run the scenario first".into();
+    };
+    let fig = crate::pipeline::run_section_figure(&d.dir, &d.project, m, sc, &s, &line, &title);
     let path = crate::pipeline::run_dir(&d.dir, &app.scenario_name()).join(format!(
         "window_section_{}.{ext}",
         if ns { "ns" } else { "ew" }

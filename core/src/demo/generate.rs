@@ -639,6 +639,7 @@ pub fn write_demo(out: &Path, size: DemoSize, obs: &dyn Observer) -> Result<Demo
         terrain_outer_m: Some(1500.0),
         uncertainty_floor_mgal: 0.02,
         uncertainty_percent: 0.0,
+        rejected_rows: vec![],
     });
     p.magnetic = Some(MagneticInput {
         file: "inputs/magnetic_readings.csv".into(),

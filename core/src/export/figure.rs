@@ -471,7 +471,42 @@ pub fn section_figure(
     title: &str,
     units: &str,
 ) -> Figure {
-    let mut f = Figure::new(1000, 560);
+    section_figure_with(
+        samples,
+        layer_tops,
+        terrain,
+        title,
+        units,
+        &SectionExtras::default(),
+    )
+}
+
+/// What a section figure can carry besides the model.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct SectionExtras {
+    /// Drill holes projected onto the section: id and (distance, elevation) points.
+    pub holes: Vec<(String, Vec<[f64; 2]>)>,
+    /// Observed and predicted data along the section: (distance, value).
+    pub observed: Vec<[f64; 2]>,
+    pub predicted: Vec<[f64; 2]>,
+    pub data_units: String,
+    /// A caption line (project, run, date).
+    pub caption: String,
+}
+
+/// A section figure with drill holes, the data profile above it and a caption.
+pub fn section_figure_with(
+    samples: &[crate::export::section::SectionSample],
+    layer_tops: &[f64],
+    terrain: &[[f64; 2]],
+    title: &str,
+    units: &str,
+    extras: &SectionExtras,
+) -> Figure {
+    let profile = !extras.observed.is_empty();
+    let top = if profile { 230.0 } else { 50.0 };
+    let height = if profile { 740 } else { 580 };
+    let mut f = Figure::new(1000, height);
     let vals: Vec<f64> = samples.iter().map(|s| s.value).collect();
     let (map, lo, hi) = ColourMap::choose(&vals);
     let dmax = samples.iter().map(|s| s.distance_m).fold(0.0, f64::max);
@@ -481,12 +516,68 @@ pub fn section_figure(
         .map(|t| t[1])
         .fold(f64::NEG_INFINITY, f64::max)
         .max(layer_tops.last().copied().unwrap_or(1.0));
+    let bottom = top + 430.0;
     let fr = Frame {
-        px: [80.0, 50.0, 880.0, 480.0],
+        px: [80.0, top, 880.0, bottom],
         x: [0.0, dmax.max(1.0)],
         y: [zmin, zmax + 0.02 * (zmax - zmin)],
     };
     f.text(80.0, 28.0, 15.0, Anchor::Start, title);
+    if profile {
+        let all: Vec<f64> = extras
+            .observed
+            .iter()
+            .chain(&extras.predicted)
+            .map(|p| p[1])
+            .collect();
+        let (lo, hi) = all
+            .iter()
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                (a.min(*v), b.max(*v))
+            });
+        let pad = 0.05 * (hi - lo).max(1e-9);
+        let pf = Frame {
+            px: [80.0, 60.0, 880.0, 180.0],
+            x: fr.x,
+            y: [lo - pad, hi + pad],
+        };
+        axes(&mut f, &pf, "", &extras.data_units);
+        for p in &extras.observed {
+            let q = pf.to_px(p[0], p[1]);
+            f.rect(q[0] - 2.0, q[1] - 2.0, 4.0, 4.0, [30, 30, 30]);
+        }
+        if extras.predicted.len() > 1 {
+            f.line(
+                extras
+                    .predicted
+                    .iter()
+                    .map(|p| pf.to_px(p[0], p[1]))
+                    .collect(),
+                [200, 40, 40],
+                1.5,
+            );
+        }
+        let n = extras.observed.len().min(extras.predicted.len());
+        let rms = (extras
+            .observed
+            .iter()
+            .zip(&extras.predicted)
+            .map(|(o, p)| (o[1] - p[1]).powi(2))
+            .sum::<f64>()
+            / n.max(1) as f64)
+            .sqrt();
+        f.text(
+            880.0,
+            52.0,
+            11.0,
+            Anchor::End,
+            format!(
+                "observed (squares), predicted (line); RMS misfit {} {}",
+                label(rms),
+                extras.data_units
+            ),
+        );
+    }
     // Samples sit at cell centres; each is drawn as the cell column between
     // half-way points along the line and its layer bounds.
     let (dists, spans) = crate::export::section::distance_spans(samples);
@@ -516,14 +607,41 @@ pub fn section_figure(
         let pts = terrain.iter().map(|t| fr.to_px(t[0], t[1])).collect();
         f.line(pts, [20, 20, 20], 2.0);
     }
+    for (id, pts) in &extras.holes {
+        if pts.len() > 1 {
+            f.line(
+                pts.iter().map(|p| fr.to_px(p[0], p[1])).collect(),
+                [0, 0, 0],
+                2.5,
+            );
+            let q = fr.to_px(pts[0][0], pts[0][1]);
+            f.text(q[0] + 4.0, q[1] - 4.0, 11.0, Anchor::Start, id.clone());
+        }
+    }
     axes(
         &mut f,
         &fr,
         "distance along the section (m)",
         "elevation (m)",
     );
-    colour_bar(&mut f, 900.0, 70.0, 460.0, map, lo, hi, units);
-    f.text(80.0, 548.0, 11.0, Anchor::Start, FIGURE_CAUTION);
+    f.text(
+        880.0,
+        top - 10.0,
+        11.0,
+        Anchor::End,
+        "vertical exaggeration 1×",
+    );
+    colour_bar(&mut f, 900.0, top + 20.0, bottom - 20.0, map, lo, hi, units);
+    if !extras.caption.is_empty() {
+        f.text(
+            80.0,
+            bottom + 56.0,
+            11.0,
+            Anchor::Start,
+            extras.caption.clone(),
+        );
+    }
+    f.text(80.0, bottom + 74.0, 11.0, Anchor::Start, FIGURE_CAUTION);
     f
 }
 
@@ -650,6 +768,42 @@ mod tests {
                     < luma(ColourMap::Viridis.at((k + 1) as f64 / 20.0))
             );
         }
+    }
+
+    #[test]
+    fn section_figures_carry_holes_the_data_profile_and_the_caption() {
+        use crate::export::section::SectionSample;
+        let samples: Vec<SectionSample> = (0..10)
+            .flat_map(|i| {
+                (0..5).map(move |k| SectionSample {
+                    distance_m: 10.0 * i as f64 + 5.0,
+                    x: 0.0,
+                    y: 0.0,
+                    elevation_m: 10.0 * k as f64 + 5.0,
+                    value: (i as f64 - k as f64) * 0.01,
+                })
+            })
+            .collect();
+        let tops: Vec<f64> = (0..=5).map(|k| 10.0 * k as f64).collect();
+        let plain = section_figure(&samples, &tops, &[[0.0, 50.0], [100.0, 50.0]], "t", "g/cm³");
+        assert_eq!((plain.width, plain.height), (1000, 580));
+        let extras = SectionExtras {
+            holes: vec![("DH-7".into(), vec![[40.0, 50.0], [45.0, 10.0]])],
+            observed: vec![[5.0, 1.0], [50.0, 2.0], [95.0, 1.5]],
+            predicted: vec![[5.0, 1.1], [50.0, 1.9], [95.0, 1.5]],
+            data_units: "mGal".into(),
+            caption: "Example — scenario a — 2026-12-02".into(),
+        };
+        let f = section_figure_with(&samples, &tops, &[], "t", "g/cm³", &extras);
+        assert_eq!(f.height, 740);
+        let svg = f.svg();
+        assert!(
+            svg.contains("DH-7")
+                && svg.contains("RMS misfit 0.082 mGal")
+                && svg.contains("Example — scenario a"),
+            "{svg}"
+        );
+        assert!(svg.contains("vertical exaggeration"));
     }
 
     #[test]

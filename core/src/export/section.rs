@@ -15,6 +15,29 @@ pub struct SectionSample {
     pub value: f64,
 }
 
+/// Where a map point falls on a polyline: (distance along it, distance off
+/// it), metres, by the nearest point of the nearest segment.
+pub fn project_onto_line(line: &[[f64; 2]], p: [f64; 2]) -> Option<(f64, f64)> {
+    let mut best: Option<(f64, f64)> = None;
+    let mut start = 0.0;
+    for w in line.windows(2) {
+        let (a, b) = (w[0], w[1]);
+        let (dx, dy) = (b[0] - a[0], b[1] - a[1]);
+        let len2 = dx * dx + dy * dy;
+        let len = len2.sqrt();
+        if len2 == 0.0 {
+            continue;
+        }
+        let t = (((p[0] - a[0]) * dx + (p[1] - a[1]) * dy) / len2).clamp(0.0, 1.0);
+        let off = (p[0] - a[0] - t * dx).hypot(p[1] - a[1] - t * dy);
+        if best.is_none_or(|(_, o)| off < o) {
+            best = Some((start + t * len, off));
+        }
+        start += len;
+    }
+    best
+}
+
 /// The distinct sample distances of a section, sorted, and for each the span
 /// (from, to) half-way to its neighbours: the column a sample stands for.
 pub fn distance_spans(samples: &[SectionSample]) -> (Vec<f64>, Vec<(f64, f64)>) {
@@ -146,6 +169,15 @@ pub enum SliceLevel {
 mod tests {
     use super::*;
     use crate::mesh::recipe::{MeshRecipe, Padding};
+
+    #[test]
+    fn points_project_onto_a_bent_line() {
+        let line = [[0.0, 0.0], [100.0, 0.0], [100.0, 100.0]];
+        let (d, off) = project_onto_line(&line, [50.0, 10.0]).unwrap();
+        assert!((d - 50.0).abs() < 1e-12 && (off - 10.0).abs() < 1e-12);
+        let (d, off) = project_onto_line(&line, [110.0, 40.0]).unwrap();
+        assert!((d - 140.0).abs() < 1e-12 && (off - 10.0).abs() < 1e-12);
+    }
 
     #[test]
     fn sections_and_slices_read_a_known_function_at_cell_centres() {

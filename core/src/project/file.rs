@@ -82,6 +82,10 @@ pub struct GravityInput {
     /// Data uncertainty: floor (mGal) plus a percentage of each datum.
     pub uncertainty_floor_mgal: f64,
     pub uncertainty_percent: f64,
+    /// Readings the user rejected (0-based data rows of the file): left out
+    /// of gridding and inversion; the file itself is never changed.
+    #[serde(default)]
+    pub rejected_rows: Vec<usize>,
 }
 
 /// The magnetic survey of a project.
