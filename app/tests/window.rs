@@ -256,3 +256,38 @@ fn a_csv_is_imported_through_the_form_with_a_role_changed() {
     assert!(!text.contains("A1"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn unsaved_edits_are_autosaved_and_offered_at_the_next_start() {
+    let dir = demo("autosave");
+    {
+        let mut app = FieldstoneApp::with(Some(&dir), false);
+        let d = app.doc.as_mut().expect("the demo opens");
+        d.before_edit();
+        d.project.name = "edited, not saved".into();
+        d.autosave().unwrap();
+    }
+    assert!(dir.join(".autosave.project.json").exists());
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    assert!(
+        matches!(
+            h.state().dialog,
+            Some(fieldstone::window::Dialog::Recover(_))
+        ),
+        "{:?}",
+        h.state().dialog
+    );
+    h.get_by_label("Recover").click();
+    h.run_steps(3);
+    assert_eq!(
+        h.state().doc.as_ref().unwrap().project.name,
+        "edited, not saved"
+    );
+    // Nothing is written over the project until the user saves.
+    let on_disk = fieldstone_core::project::file::ProjectFile::load(&dir)
+        .unwrap()
+        .project;
+    assert_eq!(on_disk.name, "Harrow Fen (invented demo)");
+    std::fs::remove_dir_all(&dir).ok();
+}
