@@ -14,9 +14,9 @@ mod steps;
 
 pub use data::{load_points, Points};
 pub use steps::{
-    constraints_of, load_model, load_model_context, prov, read_predicted, run_section_figure,
-    scenario_data, terrain_along, units_of, write_constraints, ModelContext, RunFile,
-    TruthComparison, CAUTION,
+    constraints_of, hole_traces, load_model, load_model_context, prov, read_predicted,
+    run_section_figure, scenario_data, terrain_along, units_of, write_constraints, ModelContext,
+    RunFile, TruthComparison, CAUTION,
 };
 
 use fieldstone_core::progress::Observer;
@@ -294,7 +294,8 @@ pub fn project_states(dir: &Path, p: &ProjectFile) -> Result<Vec<(String, StepSt
     Ok(out)
 }
 
-fn now_iso() -> String {
+/// The time now, ISO 8601 UTC to the second.
+pub(crate) fn now_iso() -> String {
     let t = std::time::SystemTime::now()
         .duration_since(std::time::UNIX_EPOCH)
         .map(|d| d.as_secs_f64())

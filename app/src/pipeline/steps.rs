@@ -1013,6 +1013,29 @@ pub fn read_predicted(path: &Path) -> Option<(Points, Vec<f64>)> {
     Some((obs, pred))
 }
 
+/// Every drill hole of the project: id, collar and 21 points down its
+/// desurveyed trace to the total depth (or the last logged interval).
+pub fn hole_traces(m: &ModelContext) -> Vec<(String, [f64; 3], Vec<[f64; 3]>)> {
+    let Some(hs) = &m.inputs.holes else {
+        return vec![];
+    };
+    hs.holes
+        .iter()
+        .map(|h| {
+            let tr = fieldstone_core::drillhole::desurvey::Trace::of(h);
+            let td = h
+                .total_depth_m
+                .or(h.intervals.last().map(|i| i.to_m))
+                .unwrap_or(0.0);
+            (
+                h.id.clone(),
+                h.collar,
+                (0..=20).map(|k| tr.at(td * k as f64 / 20.0)).collect(),
+            )
+        })
+        .collect()
+}
+
 /// Drill holes and data near a section line, for its figure: holes and data
 /// within `max_off_m` of the line are projected onto it.
 pub fn section_extras(
@@ -1028,24 +1051,17 @@ pub fn section_extras(
         caption,
         ..Default::default()
     };
-    if let Some(hs) = &m.inputs.holes {
-        for h in &hs.holes {
-            let tr = fieldstone_core::drillhole::desurvey::Trace::of(h);
-            let td = h
-                .total_depth_m
-                .or(h.intervals.last().map(|i| i.to_m))
-                .unwrap_or(0.0);
-            let pts: Vec<[f64; 2]> = (0..=20)
-                .map(|k| tr.at(td * k as f64 / 20.0))
-                .filter_map(|p| {
-                    project_onto_line(line, [p[0], p[1]])
-                        .filter(|(_, off)| *off <= max_off_m)
-                        .map(|(d, _)| [d, p[2]])
-                })
-                .collect();
-            if pts.len() > 1 {
-                e.holes.push((h.id.clone(), pts));
-            }
+    for (id, _, trace) in hole_traces(m) {
+        let pts: Vec<[f64; 2]> = trace
+            .iter()
+            .filter_map(|p| {
+                project_onto_line(line, [p[0], p[1]])
+                    .filter(|(_, off)| *off <= max_off_m)
+                    .map(|(d, _)| [d, p[2]])
+            })
+            .collect();
+        if pts.len() > 1 {
+            e.holes.push((id, pts));
         }
     }
     if let Some((obs, pred)) = run {
@@ -1101,14 +1117,7 @@ pub fn run_section_figure(
 }
 
 fn now_date() -> String {
-    let t = std::time::SystemTime::now()
-        .duration_since(std::time::UNIX_EPOCH)
-        .map(|d| d.as_secs_f64())
-        .unwrap_or(0.0);
-    fieldstone_core::survey::time::format_iso(t)
-        .chars()
-        .take(10)
-        .collect()
+    super::now_iso().chars().take(10).collect()
 }
 
 /// Terrain elevation under each distinct sample position of a section.

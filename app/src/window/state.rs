@@ -4,7 +4,6 @@ use crate::pipeline::{
     at, load_model, load_model_context, load_points, project_states, run_dir, ModelContext, Points,
     RunFile,
 };
-use fieldstone_core::drillhole::desurvey::Trace;
 use fieldstone_core::grid::geotiff::read_geotiff;
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
@@ -229,17 +228,7 @@ impl Doc {
         }
         match load_model_context(dir, p) {
             Ok(m) => {
-                if let Some(hs) = &m.inputs.holes {
-                    for h in &hs.holes {
-                        let tr = Trace::of(h);
-                        let td = h
-                            .total_depth_m
-                            .or(h.intervals.last().map(|i| i.to_m))
-                            .unwrap_or(0.0);
-                        let pts = (0..=20).map(|k| tr.at(td * k as f64 / 20.0)).collect();
-                        v.holes.push((h.id.clone(), h.collar, pts));
-                    }
-                }
+                v.holes = crate::pipeline::hole_traces(&m);
                 for s in &p.scenarios {
                     let rd = run_dir(dir, &s.name);
                     let Ok(text) = std::fs::read_to_string(rd.join("summary.json")) else {

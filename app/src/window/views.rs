@@ -389,22 +389,24 @@ pub fn toggle_rejected(app: &mut FieldstoneApp, row: usize) {
     d.refresh_states();
 }
 
-/// Readings whose fourth difference stands out (spike detector, common practice).
+/// Readings of a profile (in line order) that the survey spike detector
+/// flags (fourth difference, `core::survey::qc::detect_spikes`).
 fn flagged(prof: &[[f64; 2]]) -> Vec<[f64; 2]> {
-    if prof.len() < 6 {
-        return vec![];
-    }
-    let d4: Vec<f64> = prof
-        .windows(5)
-        .map(|w| w[0][1] - 4.0 * w[1][1] + 6.0 * w[2][1] - 4.0 * w[3][1] + w[4][1])
-        .collect();
-    let mut a: Vec<f64> = d4.iter().map(|v| v.abs()).collect();
-    a.sort_by(|x, y| x.total_cmp(y));
-    let mad = a[a.len() / 2].max(1e-12);
-    d4.iter()
-        .enumerate()
-        .filter(|(_, v)| v.abs() > 8.0 * mad)
-        .map(|(i, _)| prof[i + 2])
+    use fieldstone_core::survey::qc::{detect_spikes, flag, ChannelFlags, SpikeRule};
+    let values: Vec<f64> = prof.iter().map(|p| p[1]).collect();
+    let line = fieldstone_core::survey::lines::SurveyLine {
+        name: String::new(),
+        rows: (0..prof.len() as u32).collect(),
+    };
+    let mut flags = ChannelFlags {
+        channel: String::new(),
+        bits: vec![0; prof.len()],
+    };
+    detect_spikes(&values, &[line], &mut flags, SpikeRule::default());
+    prof.iter()
+        .zip(&flags.bits)
+        .filter(|(_, b)| **b & flag::SPIKE != 0)
+        .map(|(p, _)| *p)
         .collect()
 }
 

@@ -269,28 +269,14 @@ pub fn invert<O: Operator>(
     let mesh = pb.mesh;
     let [nx, ny, _] = mesh.shape();
     let centre = |cell: usize| mesh.centre(cell % nx, (cell / nx) % ny, cell / (nx * ny));
-    let lower: Vec<f64> = pb
-        .active
-        .iter()
-        .map(|&k| {
-            if c.fixed[k] {
-                c.starting[k]
-            } else {
-                c.lower[k]
-            }
-        })
-        .collect();
-    let upper: Vec<f64> = pb
-        .active
-        .iter()
-        .map(|&k| {
-            if c.fixed[k] {
-                c.starting[k]
-            } else {
-                c.upper[k]
-            }
-        })
-        .collect();
+    // Fixed cells get both bounds at their starting value.
+    let bound = |b: &[f64]| -> Vec<f64> {
+        pb.active
+            .iter()
+            .map(|&k| if c.fixed[k] { c.starting[k] } else { b[k] })
+            .collect()
+    };
+    let (lower, upper) = (bound(&c.lower), bound(&c.upper));
     if lower.iter().zip(&upper).all(|(l, u)| l == u) {
         return Err(InversionError::Setup(
             "every active cell is fixed; there is nothing to invert for".into(),
