@@ -198,3 +198,14 @@ fn help_lists_the_commands_with_the_cautions() {
         assert!(s.contains(c), "{c} missing from the help:\n{s}");
     }
 }
+
+#[test]
+fn a_path_that_is_not_a_project_is_refused_before_any_window_opens() {
+    let o = bin().arg("no-such-folder").output().unwrap();
+    assert!(!o.status.success());
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        e.contains("no-such-folder") && e.contains("not a Fieldstone project folder"),
+        "{e}"
+    );
+}

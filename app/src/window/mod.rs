@@ -893,7 +893,13 @@ pub fn setup_fonts(ctx: &egui::Context) {
 /// Opens the window on `project` (the bundled demo when none is given).
 pub fn open(project: Option<&Path>) -> Result<(), String> {
     let dir = match project {
-        Some(p) => p.to_path_buf(),
+        Some(p) if p.join("project.json").exists() || p.file_name().is_some_and(|n| n == "project.json") && p.exists() => p.to_path_buf(),
+        Some(p) => {
+            return Err(format!(
+                "{} is not a Fieldstone project folder (it has no project.json); give a project folder, or a command (see fieldstone --help)",
+                p.display()
+            ))
+        }
         None => match recent_projects()
             .into_iter()
             .find(|p| p.join("project.json").exists())
