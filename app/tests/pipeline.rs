@@ -226,6 +226,97 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         &grids,
     );
     assert!(grids.join("gravity_residual.tif").exists());
+    // Map figures of every grid: hillshade, automatic contours, 150 dpi.
+    let maps = dir.join("maps-out");
+    export_ok(
+        &dir,
+        &[
+            "--run",
+            "smooth",
+            "--what",
+            "grids",
+            "--format",
+            "svg",
+            "--hillshade",
+            "--contours",
+            "auto",
+        ],
+        &maps,
+    );
+    let svg = std::fs::read_to_string(maps.join("gravity_residual.svg")).unwrap();
+    assert!(
+        svg.contains("contours every") && svg.contains("shaded from the north-west"),
+        "legend of the map figure"
+    );
+    assert!(svg.contains(">HF-01<"), "collars on the map");
+    let png = dir.join("slice150.png");
+    export_ok(
+        &dir,
+        &[
+            "--run",
+            "smooth",
+            "--what",
+            "slice",
+            "--format",
+            "png",
+            "--dpi",
+            "150",
+            "--colour-map",
+            "cividis",
+        ],
+        &png,
+    );
+    let dec = png::Decoder::new(std::io::BufReader::new(std::fs::File::open(&png).unwrap()));
+    let info = dec.read_info().unwrap();
+    assert_eq!(info.info().width, 1350, "900 px layout at 150/100");
+    // Section figures carry the logged densities of holes near the line.
+    let sec = dir.join("section-holes.svg");
+    export_ok(
+        &dir,
+        &[
+            "--run",
+            "drilling_cover_contact",
+            "--what",
+            "section",
+            "--format",
+            "svg",
+            "--hole-distance-m",
+            "60",
+            "--line",
+            "452000,5401300;453500,5401300",
+        ],
+        &sec,
+    );
+    let svg = std::fs::read_to_string(&sec).unwrap();
+    assert!(
+        svg.contains(">HF-01<") && svg.contains("beside holes: logged density − 2.67"),
+        "holes with logs on the section"
+    );
+    // Bad figure options are refused with the accepted values.
+    for (opt, val, msg) in [
+        ("--dpi", "20", "outside 50 to 600"),
+        (
+            "--colour-map",
+            "rainbow",
+            "viridis, cividis, diverging, grey",
+        ),
+        ("--contours", "-1", "positive interval"),
+    ] {
+        let o = bin()
+            .arg("export")
+            .arg(&dir)
+            .args([
+                "--run", "smooth", "--what", "slice", "--format", "png", opt, val, "--out",
+            ])
+            .arg(dir.join("bad.png"))
+            .output()
+            .unwrap();
+        let err = String::from_utf8_lossy(&o.stderr);
+        assert!(
+            !o.status.success() && err.contains(msg),
+            "{opt} {val}: {err}"
+        );
+    }
     let o = bin()
         .arg("export")
         .arg(&dir)

@@ -204,11 +204,11 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     let dec = png::Decoder::new(std::io::Cursor::new(bytes))
         .read_info()
         .unwrap();
-    // 740 px tall with the data profile above the section (data within a cell
-    // of the line), 580 without.
-    assert_eq!(dec.info().width, 1000);
+    // The demo asks for 150 dpi: the 1000 × 740 layout (580 without the data
+    // profile above the section) at 1.5 times.
+    assert_eq!(dec.info().width, 1500);
     assert!(
-        [580, 740].contains(&dec.info().height),
+        [870, 1110].contains(&dec.info().height),
         "{}",
         dec.info().height
     );

@@ -2,7 +2,6 @@
 
 use crate::pipeline::{self};
 use clap::{Args, ValueEnum};
-use fieldstone_core::export::figure::grid_figure;
 use fieldstone_core::export::section::{plan_slice, section, SliceLevel};
 use fieldstone_core::export::voxel::{write_cell_table, write_npy, write_vtr, CellArray};
 use fieldstone_core::grid::geotiff::write_geotiff;
@@ -56,6 +55,81 @@ pub struct ExportArgs {
     pub depth_m: Option<f64>,
     #[arg(long = "elevation-m", allow_hyphen_values = true)]
     pub elevation_m: Option<f64>,
+    /// PNG resolution in dots per inch, 50 to 600 (default: the project's
+    /// export setting, else 100).
+    #[arg(long)]
+    pub dpi: Option<f64>,
+    /// Colour map of figures: viridis, cividis, diverging or grey (default:
+    /// diverging for values of both signs, else viridis).
+    #[arg(long = "colour-map", alias = "color-map")]
+    pub colour_map: Option<String>,
+    /// Map figures: contour interval in the grid's units, or "auto".
+    #[arg(long, allow_hyphen_values = true)]
+    pub contours: Option<String>,
+    /// Map figures: shade the colours by the grid's relief.
+    #[arg(long)]
+    pub hillshade: bool,
+    /// Section figures: holes and data within this distance of the line are
+    /// projected onto it, metres (default: the project's setting, else one core cell).
+    #[arg(long = "hole-distance-m")]
+    pub hole_distance_m: Option<f64>,
+}
+
+/// Figure options from the command line over the project's export settings.
+fn style_of(a: &ExportArgs, p: &ProjectFile) -> Result<(pipeline::FigureStyle, f64), String> {
+    use fieldstone_core::export::figure::{ColourMap, BASE_DPI, DPI_RANGE};
+    let mut st = pipeline::FigureStyle::of(p);
+    if let Some(name) = &a.colour_map {
+        st.colour_map = Some(ColourMap::named(name).ok_or_else(|| {
+            format!(
+                "--colour-map: '{name}' is not one of {}",
+                ColourMap::NAMES.join(", ")
+            )
+        })?);
+    }
+    if let Some(d) = a.hole_distance_m {
+        if !(d.is_finite() && d >= 0.0) {
+            return Err(format!(
+                "--hole-distance-m: {d} is not a distance in metres (0 or more)"
+            ));
+        }
+        st.hole_distance_m = Some(d);
+    }
+    st.hillshade = a.hillshade;
+    st.contour_interval = match a.contours.as_deref() {
+        None => None,
+        Some("auto") => Some(f64::NAN),
+        Some(t) => match t.parse::<f64>() {
+            Ok(v) if v.is_finite() && v > 0.0 => Some(v),
+            _ => {
+                return Err(format!(
+                    "--contours: '{t}' is not a positive interval in the grid's units or 'auto'"
+                ))
+            }
+        },
+    };
+    let dpi = a.dpi.or(p.exports.figure_dpi).unwrap_or(BASE_DPI);
+    if !DPI_RANGE.contains(&dpi) {
+        return Err(format!(
+            "--dpi: {dpi} is outside {} to {} dots per inch",
+            DPI_RANGE.start(),
+            DPI_RANGE.end()
+        ));
+    }
+    Ok((st, dpi))
+}
+
+/// The style for one grid: an automatic contour interval (about 12 lines)
+/// resolved against the grid's range.
+fn style_for_grid(
+    st: &pipeline::FigureStyle,
+    g: &fieldstone_core::grid::Grid2,
+) -> pipeline::FigureStyle {
+    let mut st = st.clone();
+    if st.contour_interval.is_some_and(|v| v.is_nan()) {
+        st.contour_interval = fieldstone_core::grid::contour::suggested_interval(g, 12);
+    }
+    st
 }
 
 fn parse_line(s: &str) -> Result<Vec<[f64; 2]>, String> {
@@ -93,7 +167,7 @@ fn refuse(what: What, f: Format) -> String {
             What::Section => "csv, png or svg",
             What::Slice => "tif, csv, png or svg",
             What::Data => "csv",
-            What::Grids => "tif (into a folder)",
+            What::Grids => "tif, png or svg (into a folder)",
         }
     )
     .to_lowercase()
@@ -103,13 +177,54 @@ fn write_figure(
     out: &std::path::Path,
     fig: &fieldstone_core::export::figure::Figure,
     f: Format,
+    dpi: f64,
 ) -> Result<(), String> {
     let bytes = if f == Format::Png {
-        fig.png()
+        fig.png_at_dpi(dpi)
     } else {
         fig.svg().into_bytes()
     };
     std::fs::write(out, bytes).map_err(|er| format!("{}: {er}", out.display()))
+}
+
+fn level_text(l: SliceLevel) -> String {
+    match l {
+        SliceLevel::Depth(d) => format!("{d} m below the surface"),
+        SliceLevel::Elevation(z) => format!("at {z} m elevation"),
+    }
+}
+
+/// Station positions for a map of a data grid: gravity stations for
+/// gravity grids, magnetic readings (every one up to 5,000, then thinned)
+/// for magnetic grids, none for others.
+fn grid_stations(dir: &std::path::Path, stem: &str) -> Vec<[f64; 2]> {
+    let file = if stem.starts_with("gravity") {
+        "gravity_stations.csv"
+    } else if stem.starts_with("magnetic") {
+        "magnetic_points.csv"
+    } else {
+        return vec![];
+    };
+    match pipeline::load_points(&dir.join("data").join(file)) {
+        Ok(pts) => {
+            let step = pts.xyz.len().div_ceil(5000).max(1);
+            pts.xyz.iter().step_by(step).map(|p| [p[0], p[1]]).collect()
+        }
+        Err(_) => vec![],
+    }
+}
+
+/// Units of a data grid: its own, else guessed from its name.
+fn grid_units(stem: &str, g: &fieldstone_core::grid::Grid2) -> String {
+    if !g.units.is_empty() {
+        g.units.clone()
+    } else if stem.starts_with("gravity") {
+        "mGal".into()
+    } else if stem.starts_with("magnetic") {
+        "nT".into()
+    } else {
+        String::new()
+    }
 }
 
 pub fn run(a: &ExportArgs) -> Result<(), String> {
@@ -131,6 +246,7 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                     .join(", ")
             )
         })?;
+    let (style, dpi) = style_of(a, &p)?;
     let m = pipeline::load_model_context(&a.project_dir, &p)?;
     let (mu, du) = pipeline::units_of(s.data);
     let model = || {
@@ -207,8 +323,9 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                         &samples,
                         &line,
                         &format!("{} — section", s.name),
+                        &style,
                     );
-                    write_figure(&a.out, &fig, f)?;
+                    write_figure(&a.out, &fig, f, dpi)?;
                 }
             }
         }
@@ -245,8 +362,15 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                     pipeline::write_text(&a.out, &t)?;
                 }
                 _ => {
-                    let fig = grid_figure(&g, &format!("{} — plan slice {level:?}", s.name), mu);
-                    write_figure(&a.out, &fig, f)?;
+                    let fig = pipeline::run_slice_figure(
+                        &p,
+                        &m,
+                        s,
+                        &g,
+                        format!("{} — plan slice {}", s.name, level_text(level)),
+                        &style_for_grid(&style, &g),
+                    );
+                    write_figure(&a.out, &fig, f, dpi)?;
                 }
             }
         }
@@ -256,21 +380,47 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                 .map_err(|er| format!("{}: {er} (run the scenario first)", src.display()))?;
             let _ = du;
         }
-        (What::Grids, Format::Tif) => {
+        (What::Grids, f @ (Format::Tif | Format::Png | Format::Svg)) => {
             std::fs::create_dir_all(&a.out).map_err(|er| format!("{}: {er}", a.out.display()))?;
             let data = a.project_dir.join("data");
             let mut n = 0;
-            for entry in std::fs::read_dir(&data)
+            let mut paths: Vec<PathBuf> = std::fs::read_dir(&data)
                 .map_err(|er| format!("{}: {er} (run the project first)", data.display()))?
-            {
-                let path = entry.map_err(|er| er.to_string())?.path();
-                if path.extension().is_some_and(|e| e == "tif") {
-                    let to = a.out.join(path.file_name().unwrap_or_default());
+                .filter_map(|e| e.ok().map(|e| e.path()))
+                .filter(|p| p.extension().is_some_and(|e| e == "tif"))
+                .collect();
+            paths.sort();
+            for path in paths {
+                let name = path.file_name().unwrap_or_default().to_os_string();
+                if f == Format::Tif {
+                    let to = a.out.join(&name);
                     std::fs::copy(&path, &to).map_err(|er| format!("{}: {er}", to.display()))?;
-                    n += 1;
+                } else {
+                    let g = fieldstone_core::grid::geotiff::read_geotiff(&path)
+                        .map_err(|er| format!("{}: {er}", path.display()))?;
+                    let stem = path
+                        .file_stem()
+                        .unwrap_or_default()
+                        .to_string_lossy()
+                        .to_string();
+                    let stations = grid_stations(&a.project_dir, &stem);
+                    let units = grid_units(&stem, &g);
+                    let opts = pipeline::map_options(
+                        &p,
+                        Some(&m),
+                        None,
+                        stations,
+                        &style_for_grid(&style, &g),
+                        stem.replace('_', " "),
+                        &units,
+                    );
+                    let fig = fieldstone_core::export::figure::map_figure(&g, &opts);
+                    let ext = if f == Format::Png { "png" } else { "svg" };
+                    write_figure(&a.out.join(format!("{stem}.{ext}")), &fig, f, dpi)?;
                 }
+                n += 1;
             }
-            eprintln!("{n} grids copied");
+            eprintln!("{n} grids written");
         }
         (w, f) => return Err(refuse(w, f)),
     }

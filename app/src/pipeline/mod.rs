@@ -14,9 +14,10 @@ mod steps;
 
 pub use data::{load_points, Points};
 pub use steps::{
-    constraints_of, hole_traces, load_model, load_model_context, prov, read_predicted,
-    run_section_figure, scenario_data, terrain_along, units_of, write_constraints, ModelContext,
-    RunFile, TruthComparison, CAUTION,
+    constraints_of, hole_log_for, hole_traces, load_model, load_model_context, map_options, prov,
+    read_predicted, run_section_figure, run_slice_figure, scenario_data, section_extras,
+    terrain_along, units_of, write_constraints, FigureStyle, HoleLog, ModelContext, RunFile,
+    TruthComparison, CAUTION,
 };
 
 use fieldstone_core::progress::Observer;

@@ -100,6 +100,9 @@ pub struct GridLayer<'a> {
     pub grid: &'a Grid2,
     pub colouring: Colouring,
     pub hillshade: bool,
+    /// Contour interval in the grid's units (None: no contours; NaN: about
+    /// twelve lines over the range).
+    pub contours: Option<f64>,
 }
 
 /// What the map shows.
@@ -127,40 +130,48 @@ pub struct MapResponse {
 #[derive(Default)]
 pub struct Textures {
     map: HashMap<String, TextureHandle>,
+    /// Contour lines by grid key and interval, with the interval used.
+    contours: HashMap<String, ContourSet>,
+}
+
+/// The interval used and each line with its level.
+type ContourSet = (f64, Vec<(f64, Vec<[f64; 2]>)>);
+
+/// Contour lines of a grid at an interval (NaN: a suggested one).
+fn contour_lines(g: &Grid2, interval: f64) -> ContourSet {
+    use fieldstone_core::grid::contour::{contour, levels, suggested_interval};
+    let iv = if interval.is_finite() {
+        interval
+    } else {
+        suggested_interval(g, 12).unwrap_or(1.0)
+    };
+    let lv = levels(g, iv, 60);
+    let used = if lv.len() > 1 { lv[1] - lv[0] } else { iv };
+    let lines = lv
+        .into_iter()
+        .flat_map(|l| contour(g, l).into_iter().map(move |line| (l, line)))
+        .collect();
+    (used, lines)
 }
 
 fn grid_image(g: &Grid2, c: &Colouring, hillshade: bool) -> ColorImage {
+    use fieldstone_core::grid::shade;
     let mut img = ColorImage::new([g.nx, g.ny], vec![Color32::TRANSPARENT; g.nx * g.ny]);
-    let v = |i: usize, j: usize| g.values[i + g.nx * j];
+    let light = hillshade.then(|| shade::hillshade(g, 315.0, 45.0, shade::auto_exaggeration(g)));
     for j in 0..g.ny {
         for i in 0..g.nx {
-            let z = v(i, j);
+            let k = i + g.nx * j;
+            let z = g.values[k];
             if !z.is_finite() {
                 continue;
             }
-            let mut col = c.colour(z);
-            if hillshade {
+            let mut col = c.map.at(c.t(z));
+            if let Some(l) = &light {
                 // Sun from the north-west, 45° up (common practice).
-                let dzdx = (v((i + 1).min(g.nx - 1), j) - v(i.saturating_sub(1), j)) / (2.0 * g.dx);
-                let dzdy = (v(i, (j + 1).min(g.ny - 1)) - v(i, j.saturating_sub(1))) / (2.0 * g.dy);
-                let (dzdx, dzdy) = (
-                    if dzdx.is_finite() { dzdx } else { 0.0 },
-                    if dzdy.is_finite() { dzdy } else { 0.0 },
-                );
-                let k = 4.0 / (c.hi - c.lo).abs().max(1e-12) * g.dx.max(g.dy) * 10.0;
-                let n = [-dzdx * k, -dzdy * k, 1.0];
-                let len = (n[0] * n[0] + n[1] * n[1] + 1.0f64).sqrt();
-                let sun = [-0.5, 0.5, std::f64::consts::FRAC_1_SQRT_2];
-                let shade = ((n[0] * sun[0] + n[1] * sun[1] + n[2] * sun[2]) / len).clamp(0.0, 1.0);
-                let f = (0.45 + 0.75 * shade) as f32;
-                col = Color32::from_rgb(
-                    (col.r() as f32 * f).min(255.0) as u8,
-                    (col.g() as f32 * f).min(255.0) as u8,
-                    (col.b() as f32 * f).min(255.0) as u8,
-                );
+                col = shade::shade_colour(col, l[k]);
             }
             // Image row 0 is the north edge.
-            img.pixels[i + g.nx * (g.ny - 1 - j)] = col;
+            img.pixels[i + g.nx * (g.ny - 1 - j)] = Color32::from_rgb(col[0], col[1], col[2]);
         }
     }
     img
@@ -303,6 +314,40 @@ pub fn map(
             Rect::from_min_max(Pos2::ZERO, Pos2::new(1.0, 1.0)),
             Color32::WHITE,
         );
+        if let Some(iv) = gl.contours {
+            let ckey = format!("{}|{iv}", gl.key);
+            let (used, lines) = textures
+                .contours
+                .entry(ckey)
+                .or_insert_with(|| contour_lines(g, iv));
+            let stroke = Stroke::new(0.8, Color32::from_rgba_unmultiplied(20, 20, 20, 170));
+            for (level, line) in lines.iter() {
+                let pts: Vec<Pos2> = line.iter().map(|p| frame.to_screen(rect, *p)).collect();
+                let len: f32 = pts.windows(2).map(|w| w[0].distance(w[1])).sum();
+                if len > 160.0 {
+                    let mid = pts[pts.len() / 2];
+                    painter.text(
+                        mid,
+                        egui::Align2::CENTER_BOTTOM,
+                        format!("{}", (level * 1e6).round() / 1e6),
+                        egui::FontId::proportional(10.0),
+                        Color32::from_gray(20),
+                    );
+                }
+                painter.add(egui::Shape::line(pts, stroke));
+            }
+            painter.text(
+                Pos2::new(rect.left() + 44.0, rect.top() + 8.0),
+                egui::Align2::LEFT_TOP,
+                format!(
+                    "contours every {} {}",
+                    (*used * 1e6).round() / 1e6,
+                    layers.units.split(" (").next().unwrap_or("")
+                ),
+                egui::FontId::proportional(11.0),
+                Color32::from_gray(40),
+            );
+        }
     }
     for (pts, col, closed) in &layers.lines {
         let mut s: Vec<Pos2> = pts.iter().map(|p| frame.to_screen(rect, *p)).collect();
@@ -379,8 +424,22 @@ pub fn map(
     out
 }
 
+/// What a section view shows besides the cell values.
+#[derive(Debug, Clone, Default)]
+pub struct SectionDecor {
+    /// Outline every cell.
+    pub cell_edges: bool,
+    /// The core's distance range along the line and its bottom elevation:
+    /// cells outside are padding and drawn paler.
+    pub core: Option<([f64; 2], f64)>,
+    /// Drill holes projected onto the section with their logged values.
+    pub holes: Vec<fieldstone_core::export::figure::ProjectedHole>,
+    pub log_label: String,
+}
+
 /// Shows a section (distance × elevation) in the remaining space; returns the
 /// hovered (distance, elevation, value).
+#[allow(clippy::too_many_arguments)]
 pub fn section(
     ui: &mut Ui,
     samples: &[SectionSample],
@@ -389,6 +448,7 @@ pub fn section(
     c: &Colouring,
     units: &str,
     exaggeration: f64,
+    decor: &SectionDecor,
 ) -> Option<(f64, f64, f64)> {
     let (rect, resp) = ui.allocate_exact_size(ui.available_size(), Sense::hover());
     let painter = ui.painter_at(rect);
@@ -443,9 +503,84 @@ pub fn section(
         }
         let r = Rect::from_two_pos(to(a, layer_tops[k]), to(b, layer_tops[k - 1]));
         painter.rect_filled(r, 0.0, c.colour(s.value));
+        if let Some(([c0, c1], zb)) = decor.core {
+            if s.distance_m < c0 || s.distance_m > c1 || s.elevation_m < zb {
+                painter.rect_filled(r, 0.0, Color32::from_white_alpha(110));
+            }
+        }
+        if decor.cell_edges {
+            painter.rect_stroke(
+                r,
+                0.0,
+                Stroke::new(0.5, Color32::from_black_alpha(90)),
+                egui::StrokeKind::Inside,
+            );
+        }
         if hp.is_some_and(|h| r.contains(h)) {
             hovered = Some((s.distance_m, s.elevation_m, s.value));
         }
+    }
+    if decor.cell_edges {
+        if let Some(([c0, c1], zb)) = decor.core {
+            let r = Rect::from_two_pos(to(c0, zmax), to(c1, zb));
+            painter.rect_stroke(
+                r,
+                0.0,
+                Stroke::new(1.5, Color32::from_rgb(20, 20, 160)),
+                egui::StrokeKind::Middle,
+            );
+            painter.text(
+                r.left_bottom() + Vec2::new(4.0, -4.0),
+                egui::Align2::LEFT_BOTTOM,
+                "core (paler: padding; blank: air)",
+                egui::FontId::proportional(11.0),
+                Color32::from_rgb(20, 20, 160),
+            );
+        }
+    }
+    for h in &decor.holes {
+        if h.trace.len() > 1 {
+            painter.add(egui::Shape::line(
+                h.trace.iter().map(|p| to(p[0], p[1])).collect(),
+                Stroke::new(2.5, Color32::BLACK),
+            ));
+            painter.text(
+                to(h.trace[0][0], h.trace[0][1]) + Vec2::new(4.0, -4.0),
+                egui::Align2::LEFT_BOTTOM,
+                &h.id,
+                egui::FontId::proportional(11.0),
+                Color32::BLACK,
+            );
+        }
+        let mut last_label = f32::NEG_INFINITY;
+        for (a, b, v) in &h.logs {
+            let (pa, pb) = (to(a[0], a[1]), to(b[0], b[1]));
+            let x = 0.5 * (pa.x + pb.x) + 3.0;
+            let r = Rect::from_min_max(
+                Pos2::new(x, pa.y.min(pb.y)),
+                Pos2::new(x + 7.0, pa.y.max(pb.y).max(pa.y.min(pb.y) + 1.0)),
+            );
+            painter.rect_filled(r, 0.0, c.colour(*v));
+            if r.top() - last_label >= 50.0 {
+                painter.text(
+                    Pos2::new(r.right() + 3.0, r.center().y),
+                    egui::Align2::LEFT_CENTER,
+                    format!("{}", (v * 1000.0).round() / 1000.0),
+                    egui::FontId::proportional(10.0),
+                    Color32::BLACK,
+                );
+                last_label = r.top();
+            }
+        }
+    }
+    if decor.holes.iter().any(|h| !h.logs.is_empty()) {
+        painter.text(
+            Pos2::new(inner.left(), rect.bottom() - 4.0),
+            egui::Align2::LEFT_BOTTOM,
+            format!("beside holes: {} on the model scale", decor.log_label),
+            egui::FontId::proportional(11.0),
+            Color32::DARK_GRAY,
+        );
     }
     if terrain.len() > 1 {
         painter.add(egui::Shape::line(

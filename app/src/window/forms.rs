@@ -551,6 +551,36 @@ fn views_controls(app: &mut FieldstoneApp, ui: &mut Ui, choices: &[&str]) {
         });
     ui.checkbox(&mut app.views.hillshade, "Hillshade");
     ui.checkbox(&mut app.views.equalise, "Histogram equalisation");
+    contour_control(ui, &mut app.views.contours);
+}
+
+/// Contours on or off, with an interval (blank: automatic).
+pub fn contour_control(ui: &mut Ui, c: &mut Option<f64>) {
+    ui.horizontal(|ui| {
+        let mut on = c.is_some();
+        if ui.checkbox(&mut on, "Contours").changed() {
+            *c = on.then_some(f64::NAN);
+        }
+        if let Some(v) = c.as_mut() {
+            let mut t = if v.is_finite() {
+                format!("{v}")
+            } else {
+                String::new()
+            };
+            let r = ui.add(
+                egui::TextEdit::singleline(&mut t)
+                    .hint_text("auto")
+                    .desired_width(60.0),
+            );
+            if r.changed() {
+                *v = match t.trim().parse::<f64>() {
+                    Ok(x) if x.is_finite() && x > 0.0 => x,
+                    _ => f64::NAN,
+                };
+            }
+            ui.label("interval");
+        }
+    });
 }
 
 fn regional(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
@@ -1042,6 +1072,13 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
                 "reference",
                 "reference_weight",
                 "starting",
+                "fixed",
+                "smoothness_x",
+                "smoothness_y",
+                "smoothness_z",
+                "reference_gradient_x",
+                "reference_gradient_y",
+                "reference_gradient_z",
             ] {
                 ui.selectable_value(&mut app.views.constraint_array, a.to_string(), a);
             }

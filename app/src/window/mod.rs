@@ -16,6 +16,7 @@ use egui::{Color32, RichText};
 use fieldstone_core::project::provenance::StepState;
 use jobs::Job;
 use state::{autosave_path, Doc};
+use std::io::Write as _;
 use std::path::{Path, PathBuf};
 use std::time::Instant;
 
@@ -99,6 +100,11 @@ pub struct FieldstoneApp {
     pub views: views::ViewState,
     last_autosave: Instant,
     pub frame_ms: f32,
+    /// With FIELDSTONE_FRAME_LOG set: every frame's times go to that file
+    /// (seconds since start, ui time, time since the previous frame, whether
+    /// a job runs) and frames are drawn continuously, for the frame-time
+    /// benchmark.
+    frame_log: Option<(std::io::BufWriter<std::fs::File>, Instant, Option<Instant>)>,
     pub show_frame_time: bool,
     allow_close: bool,
     /// Add opened projects to the recent list (off in tests).
@@ -189,6 +195,16 @@ impl FieldstoneApp {
             views: views::ViewState::default(),
             last_autosave: Instant::now(),
             frame_ms: 0.0,
+            frame_log: std::env::var_os("FIELDSTONE_FRAME_LOG")
+                .and_then(|p| std::fs::File::create(p).ok())
+                .map(|f| {
+                    let mut w = std::io::BufWriter::new(f);
+                    let _ = std::io::Write::write_all(
+                        &mut w,
+                        b"t_s,ui_ms,frame_interval_ms,job_running\n",
+                    );
+                    (w, Instant::now(), None)
+                }),
             show_frame_time: false,
             allow_close: false,
             remember_recent: remember,
@@ -561,13 +577,20 @@ impl FieldstoneApp {
     }
 
     fn shortcuts(&mut self, ctx: &egui::Context) {
-        let (s, z, y) = ctx.input(|i| {
+        let (s, z, y, f5) = ctx.input(|i| {
             (
                 i.modifiers.command && i.key_pressed(egui::Key::S),
                 i.modifiers.command && i.key_pressed(egui::Key::Z),
                 i.modifiers.command && i.key_pressed(egui::Key::Y),
+                i.key_pressed(egui::Key::F5),
             )
         });
+        if f5 && !self.job.as_ref().is_some_and(|j| j.running()) {
+            let name = self.scenario_name();
+            if !name.is_empty() {
+                self.start_pipeline(Selection::Named(name), false, Some(ctx.clone()));
+            }
+        }
         if s {
             self.save();
         }
@@ -624,7 +647,7 @@ impl FieldstoneApp {
                     ui.label("Runs without a GPU and without a network. Licensed MIT or Apache-2.0.");
                 }
                 Dialog::Shortcuts => {
-                    ui.label("Ctrl+S  save the project\nCtrl+Z  undo\nCtrl+Y  redo\nDrag the map to pan, scroll to zoom\nClick a station to select its line");
+                    ui.label("Ctrl+S  save the project\nCtrl+Z  undo\nCtrl+Y  redo\nF5  run the selected scenario\nDrag the map to pan, scroll to zoom\nClick a station to select its line");
                 }
                 Dialog::Cautions => {
                     ui.label(CAUTIONS);
@@ -863,7 +886,22 @@ impl eframe::App for FieldstoneApp {
             });
         egui::CentralPanel::default().show(ui, |ui| views::show(self, ui));
         self.dialogs(&ctx);
-        self.frame_ms = 0.9 * self.frame_ms + 0.1 * t0.elapsed().as_secs_f32() * 1000.0;
+        let ui_ms = t0.elapsed().as_secs_f64() * 1000.0;
+        self.frame_ms = 0.9 * self.frame_ms + 0.1 * ui_ms as f32;
+        let running = self.job.as_ref().is_some_and(|j| j.running());
+        if let Some((w, start, last)) = self.frame_log.as_mut() {
+            let interval = last.map(|l| t0.duration_since(l).as_secs_f64() * 1000.0);
+            let _ = writeln!(
+                w,
+                "{:.3},{ui_ms:.3},{},{}",
+                start.elapsed().as_secs_f64(),
+                interval.map(|v| format!("{v:.3}")).unwrap_or_default(),
+                running as u8
+            );
+            let _ = w.flush();
+            *last = Some(t0);
+            ctx.request_repaint();
+        }
     }
 
     fn on_exit(&mut self, _gl: Option<&eframe::glow::Context>) {

@@ -5,7 +5,7 @@ use super::canvas::{self, Colouring, GridLayer, MapLayers};
 use super::{FieldstoneApp, Step};
 use egui::{Color32, RichText, Ui};
 use egui_plot::{Bar, BarChart, HLine, Legend, Line, Plot, Points};
-use fieldstone_core::export::figure::grid_figure;
+use fieldstone_core::export::figure::BASE_DPI;
 use fieldstone_core::export::section::{plan_slice, section, SectionSample, SliceLevel};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
@@ -14,6 +14,12 @@ pub struct ViewState {
     pub grid: String,
     pub hillshade: bool,
     pub equalise: bool,
+    /// Contours on maps and slices: None off, NaN automatic, else the interval.
+    pub contours: Option<f64>,
+    /// Cell edges, padding and air on sections.
+    pub cell_edges: bool,
+    /// Drill holes with their logged values on sections.
+    pub hole_logs: bool,
     pub line: Option<String>,
     pub colour_by: String,
     pub constraint_array: String,
@@ -31,6 +37,9 @@ impl Default for ViewState {
             grid: "gravity_grid".into(),
             hillshade: false,
             equalise: false,
+            contours: None,
+            cell_edges: false,
+            hole_logs: true,
             line: None,
             colour_by: "gravity_mgal".into(),
             constraint_array: "upper_bound".into(),
@@ -126,6 +135,7 @@ fn grid_map(
             grid: g,
             colouring: Colouring::for_values(&g.values, app.views.equalise),
             hillshade: app.views.hillshade,
+            contours: app.views.contours,
         }),
         points,
         point_colouring: None,
@@ -238,6 +248,7 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
                     equalised: None,
                 },
                 hillshade: true,
+                contours: None,
             }),
             points: pts.clone(),
             point_colouring: Some(colouring.clone()),
@@ -434,6 +445,7 @@ fn slice_map(
     ui.horizontal(|ui| {
         ui.label("elevation of the slice");
         ui.add(egui::Slider::new(&mut app.views.slice_z, zmin..=zmax).suffix(" m"));
+        super::forms::contour_control(ui, &mut app.views.contours);
     });
     let ext = extent(app);
     let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) else {
@@ -460,6 +472,7 @@ fn slice_map(
             grid: &g,
             colouring: Colouring::for_values(values, app.views.equalise),
             hillshade: false,
+            contours: app.views.contours,
         }),
         points: vec![],
         point_colouring: None,
@@ -513,6 +526,7 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
             RichText::new("east-west section through the middle of the core, including padding")
                 .weak(),
         );
+        let decor = section_decor(app, &line, true, false);
         canvas::section(
             ui,
             &s,
@@ -521,8 +535,61 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
             &Colouring::for_values(&act, false),
             "active",
             1.0,
+            &decor,
         );
     }
+}
+
+/// Cell edges, the core's extent and projected drill holes for a section
+/// along `line` of the selected scenario.
+fn section_decor(
+    app: &FieldstoneApp,
+    line: &[[f64; 2]],
+    cell_edges: bool,
+    holes: bool,
+) -> canvas::SectionDecor {
+    let mut decor = canvas::SectionDecor {
+        cell_edges,
+        ..Default::default()
+    };
+    let Some(d) = app.doc.as_ref() else {
+        return decor;
+    };
+    let Some(m) = d.views.model.as_ref() else {
+        return decor;
+    };
+    let mesh = &m.mesh;
+    let [(i0, i1), (j0, j1), (k0, _)] = mesh.core;
+    // The core along the line: where the line runs inside the core's box.
+    let inside: Vec<f64> = (0..=200)
+        .filter_map(|k| {
+            let t = k as f64 / 200.0;
+            let p = [
+                line[0][0] + t * (line[line.len() - 1][0] - line[0][0]),
+                line[0][1] + t * (line[line.len() - 1][1] - line[0][1]),
+            ];
+            let ok = p[0] >= mesh.x[i0] - 1e-6
+                && p[0] <= mesh.x[i1] + 1e-6
+                && p[1] >= mesh.y[j0] - 1e-6
+                && p[1] <= mesh.y[j1] + 1e-6;
+            ok.then(|| fieldstone_core::export::section::project_onto_line(line, p).map(|(d, _)| d))
+                .flatten()
+        })
+        .collect();
+    if let (Some(a), Some(b)) = (inside.first(), inside.last()) {
+        decor.core = Some(([*a, *b], mesh.z[k0]));
+    }
+    if holes {
+        let sc = d.project.scenarios.get(app.scenario);
+        let log = sc.and_then(|s| crate::pipeline::hole_log_for(m, &d.project, s));
+        let cell = mesh.x[i0 + 1] - mesh.x[i0];
+        let dist = d.project.exports.hole_distance_m.unwrap_or(cell);
+        let e =
+            crate::pipeline::section_extras(m, line, None, dist, "", String::new(), log.as_ref());
+        decor.holes = e.holes;
+        decor.log_label = e.log_label;
+    }
+    decor
 }
 
 fn constraints(app: &mut FieldstoneApp, ui: &mut Ui) {
@@ -542,11 +609,25 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui) {
             return;
         }
     };
+    use fieldstone_core::constraint::build::faces_on_cells;
+    let sh = arrays.shape;
+    let mean = |a: f64, b: f64| 0.5 * (a + b);
     let v: Vec<f64> = match app.views.constraint_array.as_str() {
         "lower_bound" => arrays.lower.clone(),
         "reference" => arrays.reference.clone(),
         "reference_weight" => arrays.reference_weight.clone(),
         "starting" => arrays.starting.clone(),
+        "fixed" => arrays
+            .fixed
+            .iter()
+            .map(|f| if *f { 1.0 } else { 0.0 })
+            .collect(),
+        "smoothness_x" => faces_on_cells(sh, 0, &arrays.smooth_x, f64::min),
+        "smoothness_y" => faces_on_cells(sh, 1, &arrays.smooth_y, f64::min),
+        "smoothness_z" => faces_on_cells(sh, 2, &arrays.smooth_z, f64::min),
+        "reference_gradient_x" => faces_on_cells(sh, 0, &arrays.ref_grad_x, mean),
+        "reference_gradient_y" => faces_on_cells(sh, 1, &arrays.ref_grad_y, mean),
+        "reference_gradient_z" => faces_on_cells(sh, 2, &arrays.ref_grad_z, mean),
         _ => arrays.upper.clone(),
     };
     let v: Vec<f64> = v
@@ -569,8 +650,16 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui) {
     }
     ui.label(
         RichText::new(format!(
-            "{} of scenario '{}' before any run (blank: unbounded or air)",
-            app.views.constraint_array, sc.name
+            "{} of scenario '{}' before any run (blank: unbounded or air{})",
+            app.views.constraint_array,
+            sc.name,
+            if app.views.constraint_array.starts_with("smoothness")
+                || app.views.constraint_array.starts_with("reference_gradient")
+            {
+                "; face values shown on the cells beside each face, smoothness as the smaller"
+            } else {
+                ""
+            }
         ))
         .weak(),
     );
@@ -734,13 +823,20 @@ fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
     match app.views.result_view {
         1 | 2 => {
             let ns = app.views.result_view == 2;
-            if let Some((s, terrain, z, title, _)) = current_section(app, ns) {
-                ui.label(RichText::new(title).strong());
+            if let Some((s, terrain, z, title, line)) = current_section(app, ns) {
+                ui.horizontal(|ui| {
+                    ui.label(RichText::new(title).strong());
+                    ui.checkbox(&mut app.views.cell_edges, "Cell edges");
+                    ui.checkbox(&mut app.views.hole_logs, "Drill holes");
+                });
                 let c = Colouring::for_values(
                     &s.iter().map(|q| q.value).collect::<Vec<_>>(),
                     app.views.equalise,
                 );
-                if let Some((d, e, v)) = canvas::section(ui, &s, &z, &terrain, &c, &units, 1.0) {
+                let decor = section_decor(app, &line, app.views.cell_edges, app.views.hole_logs);
+                if let Some((d, e, v)) =
+                    canvas::section(ui, &s, &z, &terrain, &c, &units, 1.0, &decor)
+                {
                     app.hover = Some(([d, e], Some(v)));
                 }
             }
@@ -889,13 +985,15 @@ pub fn export_section(app: &FieldstoneApp, ext: &str) -> String {
     ) else {
         return "run the scenario first".into();
     };
-    let fig = crate::pipeline::run_section_figure(&d.dir, &d.project, m, sc, &s, &line, &title);
+    let style = crate::pipeline::FigureStyle::of(&d.project);
+    let fig =
+        crate::pipeline::run_section_figure(&d.dir, &d.project, m, sc, &s, &line, &title, &style);
     let path = crate::pipeline::run_dir(&d.dir, &app.scenario_name()).join(format!(
         "window_section_{}.{ext}",
         if ns { "ns" } else { "ew" }
     ));
     let bytes = if ext == "png" {
-        fig.png()
+        fig.png_at_dpi(d.project.exports.figure_dpi.unwrap_or(BASE_DPI))
     } else {
         fig.svg().into_bytes()
     };
@@ -924,12 +1022,19 @@ pub fn export_slice(app: &FieldstoneApp) -> String {
     if let Err(e) = fieldstone_core::grid::geotiff::write_geotiff(&tif, &g) {
         return e.to_string();
     }
-    let fig = grid_figure(
+    let Some(sc) = d.project.scenarios.iter().find(|s| s.name == name) else {
+        return "no such scenario".into();
+    };
+    let fig = crate::pipeline::run_slice_figure(
+        &d.project,
+        m,
+        sc,
         &g,
-        &format!("{name} — plan slice at {z:.0} m elevation"),
-        &run.file.model_units,
+        format!("{name} — plan slice at {z:.0} m elevation"),
+        &crate::pipeline::FigureStyle::of(&d.project),
     );
-    match std::fs::write(base.with_extension("png"), fig.png()) {
+    let dpi = d.project.exports.figure_dpi.unwrap_or(BASE_DPI);
+    match std::fs::write(base.with_extension("png"), fig.png_at_dpi(dpi)) {
         Ok(()) => format!("wrote {} and .png", tif.display()),
         Err(e) => e.to_string(),
     }

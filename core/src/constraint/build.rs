@@ -155,6 +155,34 @@ fn faces(shape: [usize; 3], axis: usize) -> impl Iterator<Item = (usize, usize, 
     })
 }
 
+/// A per-face array shown on cells, for previews: each cell gets `combine`
+/// of the values on its two faces along `axis` (one at the mesh's edge).
+/// Smoothness factors use the minimum, so a sharp contact shows on both
+/// cells beside it.
+pub fn faces_on_cells(
+    shape: [usize; 3],
+    axis: usize,
+    face: &[f64],
+    combine: impl Fn(f64, f64) -> f64,
+) -> Vec<f64> {
+    let n = shape[0] * shape[1] * shape[2];
+    let mut out = vec![f64::NAN; n];
+    if face.len() != face_count(shape, axis) {
+        return out;
+    }
+    for (a, b, f) in faces(shape, axis) {
+        let v = face[f];
+        for c in [a, b] {
+            out[c] = if out[c].is_nan() {
+                v
+            } else {
+                combine(out[c], v)
+            };
+        }
+    }
+    out
+}
+
 fn face_count(shape: [usize; 3], axis: usize) -> usize {
     let [nx, ny, nz] = shape;
     match axis {
@@ -427,4 +455,26 @@ fn check(
         warnings.push(format!("{clipped} starting values were outside their bounds and were moved to the nearest bound"));
     }
     Ok(warnings)
+}
+
+#[cfg(test)]
+mod face_preview_tests {
+    use super::*;
+
+    #[test]
+    fn a_cell_takes_the_smaller_factor_of_its_two_faces() {
+        // 3 × 1 × 2 cells; vertical faces: 3 (one layer of faces).
+        let shape = [3, 1, 2];
+        let faces_z = vec![1.0, 0.05, 1.0];
+        let v = faces_on_cells(shape, 2, &faces_z, f64::min);
+        assert_eq!(v, vec![1.0, 0.05, 1.0, 1.0, 0.05, 1.0]);
+        // East–west faces: 2 per row, 2 rows.
+        let fx = vec![0.5, 1.0, 1.0, 0.2];
+        let v = faces_on_cells(shape, 0, &fx, f64::min);
+        assert_eq!(v, vec![0.5, 0.5, 1.0, 1.0, 0.2, 0.2]);
+        assert!(
+            faces_on_cells(shape, 0, &[1.0], f64::min)[0].is_nan(),
+            "wrong length"
+        );
+    }
 }

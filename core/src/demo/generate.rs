@@ -712,6 +712,9 @@ pub fn write_demo(out: &Path, size: DemoSize, obs: &dyn Observer) -> Result<Demo
         ],
         slice_depths_m: vec![60.0, 120.0, 200.0],
         figures: true,
+        figure_dpi: Some(150.0),
+        colour_map: None,
+        hole_distance_m: Some(40.0),
     };
     p.truth = Some("truth/true_model.json".into());
     p.save(out).map_err(|e| DemoError::Write {

@@ -7,6 +7,13 @@ use ab_glyph::{Font, FontRef, PxScale, ScaleFont};
 
 static FONT: &[u8] = include_bytes!("../../../assets/fonts/DejaVuSans.ttf");
 
+/// The resolution figure layouts are made for: a 1000-pixel-wide figure is
+/// 10 inches wide.
+pub const BASE_DPI: f64 = 100.0;
+
+/// The resolutions a PNG figure may be asked for, dots per inch.
+pub const DPI_RANGE: std::ops::RangeInclusive<f64> = 50.0..=600.0;
+
 /// An RGB colour.
 pub type Rgb = [u8; 3];
 
@@ -14,9 +21,12 @@ pub type Rgb = [u8; 3];
 /// anomalies centred on zero.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ColourMap {
-    /// Viridis (van der Walt & Smith, matplotlib, CC0); ten stops, values
-    /// from memory of its published table.
+    /// Viridis (van der Walt & Smith 2015, CC0): 33 stops sampled from
+    /// matplotlib (tests/fixtures/figures_matplotlib.py).
     Viridis,
+    /// Cividis (Nuñez, Anderton & Renslow 2018), readable with colour-vision
+    /// deficiency: 33 stops sampled from matplotlib.
+    Cividis,
     /// Blue–white–red (ColorBrewer RdBu, Brewer 2002), negative blue; values
     /// from memory of the 11-class scheme.
     Diverging,
@@ -24,17 +34,75 @@ pub enum ColourMap {
     Grey,
 }
 
-const VIRIDIS: [Rgb; 10] = [
-    [0x44, 0x01, 0x54],
-    [0x48, 0x28, 0x78],
-    [0x3e, 0x4a, 0x89],
-    [0x31, 0x68, 0x8e],
-    [0x26, 0x82, 0x8e],
-    [0x1f, 0x9e, 0x89],
-    [0x35, 0xb7, 0x79],
-    [0x6d, 0xcd, 0x59],
-    [0xb4, 0xde, 0x2c],
-    [0xfd, 0xe7, 0x25],
+const VIRIDIS: [Rgb; 33] = [
+    [68, 1, 84],
+    [71, 13, 96],
+    [72, 24, 106],
+    [72, 35, 116],
+    [71, 45, 123],
+    [69, 55, 129],
+    [66, 64, 134],
+    [62, 73, 137],
+    [59, 82, 139],
+    [55, 91, 141],
+    [51, 99, 141],
+    [47, 107, 142],
+    [44, 114, 142],
+    [41, 122, 142],
+    [38, 130, 142],
+    [35, 137, 142],
+    [33, 145, 140],
+    [31, 152, 139],
+    [31, 160, 136],
+    [34, 167, 133],
+    [40, 174, 128],
+    [50, 182, 122],
+    [63, 188, 115],
+    [78, 195, 107],
+    [94, 201, 98],
+    [112, 207, 87],
+    [132, 212, 75],
+    [152, 216, 62],
+    [173, 220, 48],
+    [194, 223, 35],
+    [216, 226, 25],
+    [236, 229, 27],
+    [253, 231, 37],
+];
+const CIVIDIS: [Rgb; 33] = [
+    [0, 34, 78],
+    [0, 40, 91],
+    [0, 46, 106],
+    [5, 51, 113],
+    [26, 56, 111],
+    [39, 62, 110],
+    [50, 67, 109],
+    [59, 73, 108],
+    [67, 78, 108],
+    [75, 84, 108],
+    [83, 90, 109],
+    [90, 95, 110],
+    [97, 101, 111],
+    [104, 106, 113],
+    [111, 112, 115],
+    [118, 118, 118],
+    [125, 124, 120],
+    [132, 130, 121],
+    [140, 136, 120],
+    [147, 142, 120],
+    [155, 148, 118],
+    [163, 154, 116],
+    [171, 160, 114],
+    [180, 167, 111],
+    [188, 174, 108],
+    [196, 180, 104],
+    [205, 187, 99],
+    [213, 194, 94],
+    [222, 201, 88],
+    [231, 209, 80],
+    [240, 216, 70],
+    [249, 224, 58],
+    [254, 232, 56],
 ];
 const RDBU: [Rgb; 11] = [
     [0x05, 0x30, 0x61],
@@ -55,6 +123,7 @@ impl ColourMap {
     pub fn at(self, t: f64) -> Rgb {
         let stops: &[Rgb] = match self {
             ColourMap::Viridis => &VIRIDIS,
+            ColourMap::Cividis => &CIVIDIS,
             ColourMap::Diverging => &RDBU,
             ColourMap::Grey => &[[40, 40, 40], [235, 235, 235]],
         };
@@ -72,6 +141,40 @@ impl ColourMap {
             mix(stops[i][1], stops[i + 1][1]),
             mix(stops[i][2], stops[i + 1][2]),
         ]
+    }
+
+    /// The names accepted on the command line and in project files.
+    pub const NAMES: [&'static str; 4] = ["viridis", "cividis", "diverging", "grey"];
+
+    /// The map of a name (case-insensitive), or None.
+    pub fn named(name: &str) -> Option<ColourMap> {
+        match name.to_ascii_lowercase().as_str() {
+            "viridis" => Some(ColourMap::Viridis),
+            "cividis" => Some(ColourMap::Cividis),
+            "diverging" => Some(ColourMap::Diverging),
+            "grey" | "gray" => Some(ColourMap::Grey),
+            _ => None,
+        }
+    }
+
+    /// The range a map is used over for a set of values: symmetric about
+    /// zero for the diverging map, 2nd–98th percentiles otherwise.
+    pub fn range_for(self, values: &[f64]) -> (f64, f64) {
+        let (auto, lo, hi) = ColourMap::choose(values);
+        match (self, auto) {
+            (ColourMap::Diverging, ColourMap::Diverging) => (lo, hi),
+            (ColourMap::Diverging, _) => {
+                let m = lo.abs().max(hi.abs()).max(1e-12);
+                (-m, m)
+            }
+            (_, ColourMap::Diverging) => {
+                let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+                v.sort_by(|a, b| a.total_cmp(b));
+                let q = |p: f64| v[((v.len() - 1) as f64 * p).round() as usize];
+                (q(0.02), q(0.98))
+            }
+            _ => (lo, hi),
+        }
     }
 
     /// The usual map and range for a set of values: diverging and symmetric
@@ -209,9 +312,29 @@ impl Figure {
         s
     }
 
-    /// The figure rasterised (RGB, row-major from the top).
+    /// The figure rasterised at its own size (RGB, row-major from the top).
     pub fn raster(&self) -> Vec<u8> {
-        let (w, h) = (self.width as usize, self.height as usize);
+        self.raster_scaled(1.0)
+    }
+
+    /// Pixel size of the figure rasterised at `scale`.
+    pub fn scaled_size(&self, scale: f64) -> (u32, u32) {
+        (
+            ((self.width as f64 * scale).round() as u32).max(1),
+            ((self.height as f64 * scale).round() as u32).max(1),
+        )
+    }
+
+    /// The figure rasterised with every coordinate, line width and text size
+    /// multiplied by `scale` (a higher resolution of the same layout).
+    pub fn raster_scaled(&self, scale: f64) -> Vec<u8> {
+        let scale = if scale.is_finite() && scale > 0.0 {
+            scale
+        } else {
+            1.0
+        };
+        let (w, h) = self.scaled_size(scale);
+        let (w, h) = (w as usize, h as usize);
         let mut px = vec![255u8; w * h * 3];
         let font = FontRef::try_from_slice(FONT).ok();
         let blend = |px: &mut [u8], x: i64, y: i64, c: Rgb, a: f64| {
@@ -233,6 +356,7 @@ impl Figure {
                     h: rh,
                     fill,
                 } => {
+                    let (x, y, rw, rh) = (x * scale, y * scale, rw * scale, rh * scale);
                     let (x0, y0) = (x.round() as i64, y.round() as i64);
                     let (x1, y1) = ((x + rw).round() as i64, (y + rh).round() as i64);
                     for yy in y0.max(0)..y1.min(h as i64) {
@@ -246,9 +370,10 @@ impl Figure {
                     colour,
                     width,
                 } => {
-                    let r = (0.5 * width).max(0.5);
+                    let r = (0.5 * width * scale).max(0.5);
                     for seg in points.windows(2) {
                         let ([ax, ay], [bx, by]) = (seg[0], seg[1]);
+                        let (ax, ay, bx, by) = (ax * scale, ay * scale, bx * scale, by * scale);
                         let len = (bx - ax).hypot(by - ay).max(1e-9);
                         let n = (len * 2.0).ceil() as usize + 1;
                         for k in 0..=n {
@@ -278,7 +403,8 @@ impl Figure {
                     colour,
                 } => {
                     let Some(font) = &font else { continue };
-                    let scaled = font.as_scaled(PxScale::from(*size as f32 * 1.2));
+                    let (x, y) = (&(x * scale), &(y * scale));
+                    let scaled = font.as_scaled(PxScale::from((size * scale) as f32 * 1.2));
                     let width: f32 = text
                         .chars()
                         .map(|c| scaled.h_advance(font.glyph_id(c)))
@@ -315,15 +441,30 @@ impl Figure {
         px
     }
 
-    /// The figure as PNG bytes.
+    /// The figure as PNG bytes at its layout resolution (`BASE_DPI`).
     pub fn png(&self) -> Vec<u8> {
+        self.png_at_dpi(BASE_DPI)
+    }
+
+    /// The figure as PNG bytes at `dpi` dots per inch: the layout (made for
+    /// `BASE_DPI`) is scaled by dpi / BASE_DPI and the resolution is written
+    /// in the file's pHYs chunk so word processors place it at its size.
+    pub fn png_at_dpi(&self, dpi: f64) -> Vec<u8> {
+        let scale = dpi / BASE_DPI;
+        let (w, h) = self.scaled_size(scale);
         let mut out = Vec::new();
         {
-            let mut enc = png::Encoder::new(&mut out, self.width, self.height);
+            let mut enc = png::Encoder::new(&mut out, w, h);
             enc.set_color(png::ColorType::Rgb);
             enc.set_depth(png::BitDepth::Eight);
-            if let Ok(mut w) = enc.write_header() {
-                let _ = w.write_image_data(&self.raster());
+            let ppm = (dpi / 0.0254).round() as u32;
+            enc.set_pixel_dims(Some(png::PixelDimensions {
+                xppu: ppm,
+                yppu: ppm,
+                unit: png::Unit::Meter,
+            }));
+            if let Ok(mut wr) = enc.write_header() {
+                let _ = wr.write_image_data(&self.raster_scaled(scale));
             }
         }
         out
@@ -481,17 +622,32 @@ pub fn section_figure(
     )
 }
 
+/// A drill hole projected onto a section, with its logged values.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct ProjectedHole {
+    pub id: String,
+    /// The trace as (distance along the section, elevation) points.
+    pub trace: Vec<[f64; 2]>,
+    /// Logged intervals: top and bottom as (distance, elevation) and the value
+    /// in the model's units (a contrast when the model is one).
+    pub logs: Vec<([f64; 2], [f64; 2], f64)>,
+}
+
 /// What a section figure can carry besides the model.
 #[derive(Debug, Clone, Default, PartialEq)]
 pub struct SectionExtras {
-    /// Drill holes projected onto the section: id and (distance, elevation) points.
-    pub holes: Vec<(String, Vec<[f64; 2]>)>,
+    /// Drill holes projected onto the section.
+    pub holes: Vec<ProjectedHole>,
+    /// What the logged values beside the holes are, e.g. "logged density − 2.67 g/cm³".
+    pub log_label: String,
     /// Observed and predicted data along the section: (distance, value).
     pub observed: Vec<[f64; 2]>,
     pub predicted: Vec<[f64; 2]>,
     pub data_units: String,
     /// A caption line (project, run, date).
     pub caption: String,
+    /// None: chosen from the values.
+    pub colour_map: Option<ColourMap>,
 }
 
 /// A section figure with drill holes, the data profile above it and a caption.
@@ -508,7 +664,13 @@ pub fn section_figure_with(
     let height = if profile { 740 } else { 580 };
     let mut f = Figure::new(1000, height);
     let vals: Vec<f64> = samples.iter().map(|s| s.value).collect();
-    let (map, lo, hi) = ColourMap::choose(&vals);
+    let (map, lo, hi) = match extras.colour_map {
+        Some(m) => {
+            let (lo, hi) = m.range_for(&vals);
+            (m, lo, hi)
+        }
+        None => ColourMap::choose(&vals),
+    };
     let dmax = samples.iter().map(|s| s.distance_m).fold(0.0, f64::max);
     let zmin = layer_tops.first().copied().unwrap_or(0.0);
     let zmax = terrain
@@ -607,7 +769,8 @@ pub fn section_figure_with(
         let pts = terrain.iter().map(|t| fr.to_px(t[0], t[1])).collect();
         f.line(pts, [20, 20, 20], 2.0);
     }
-    for (id, pts) in &extras.holes {
+    for hole in &extras.holes {
+        let pts = &hole.trace;
         if pts.len() > 1 {
             f.line(
                 pts.iter().map(|p| fr.to_px(p[0], p[1])).collect(),
@@ -615,7 +778,29 @@ pub fn section_figure_with(
                 2.5,
             );
             let q = fr.to_px(pts[0][0], pts[0][1]);
-            f.text(q[0] + 4.0, q[1] - 4.0, 11.0, Anchor::Start, id.clone());
+            f.text(q[0] + 4.0, q[1] - 4.0, 11.0, Anchor::Start, hole.id.clone());
+        }
+        // Logged values: a strip beside the trace on the model's colour
+        // scale, and the value written every 60 pixels down the hole.
+        let mut last_label_y = f64::NEG_INFINITY;
+        for (a, b, v) in &hole.logs {
+            if !v.is_finite() {
+                continue;
+            }
+            let (pa, pb) = (fr.to_px(a[0], a[1]), fr.to_px(b[0], b[1]));
+            let x = 0.5 * (pa[0] + pb[0]) + 3.0;
+            let (y0, y1) = (pa[1].min(pb[1]), pa[1].max(pb[1]));
+            f.rect(x, y0, 7.0, (y1 - y0).max(1.0), map.at((v - lo) / (hi - lo)));
+            if y0 - last_label_y >= 60.0 {
+                f.text(
+                    x + 10.0,
+                    0.5 * (y0 + y1) + 4.0,
+                    9.0,
+                    Anchor::Start,
+                    label(*v),
+                );
+                last_label_y = y0;
+            }
         }
     }
     axes(
@@ -632,24 +817,121 @@ pub fn section_figure_with(
         "vertical exaggeration 1×",
     );
     colour_bar(&mut f, 900.0, top + 20.0, bottom - 20.0, map, lo, hi, units);
-    if !extras.caption.is_empty() {
-        f.text(
-            80.0,
-            bottom + 56.0,
-            11.0,
-            Anchor::Start,
-            extras.caption.clone(),
-        );
+    let mut line2 = extras.caption.clone();
+    if extras.holes.iter().any(|h| !h.logs.is_empty()) && !extras.log_label.is_empty() {
+        if !line2.is_empty() {
+            line2.push_str("; ");
+        }
+        line2.push_str(&format!(
+            "beside holes: {} on the model scale",
+            extras.log_label
+        ));
+    }
+    if !line2.is_empty() {
+        f.text(80.0, bottom + 56.0, 11.0, Anchor::Start, line2);
     }
     f.text(80.0, bottom + 74.0, 11.0, Anchor::Start, FIGURE_CAUTION);
     f
 }
 
+/// What a map figure shows over its grid.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct MapOptions {
+    pub title: String,
+    /// Units of the grid values, for the colour bar.
+    pub units: String,
+    /// None: chosen from the values (diverging when they straddle zero).
+    pub colour_map: Option<ColourMap>,
+    /// Shade the colours by the grid's own relief (light from the north-west).
+    pub hillshade: bool,
+    /// Contour interval in the grid's units; None draws no contours.
+    pub contour_interval: Option<f64>,
+    /// Station positions (map metres).
+    pub stations: Vec<[f64; 2]>,
+    /// Named polygons (drawn closed) and section lines.
+    pub polygons: Vec<(String, Vec<[f64; 2]>)>,
+    pub lines: Vec<(String, Vec<[f64; 2]>)>,
+    /// Drill-hole collars.
+    pub collars: Vec<(String, [f64; 2])>,
+    /// A caption line (project, run, date).
+    pub caption: String,
+}
+
+/// Cuts a pixel polyline to a box (Liang–Barsky per segment); the pieces
+/// inside are returned in order.
+pub fn clip_polyline(points: &[[f64; 2]], bx: [f64; 4]) -> Vec<Vec<[f64; 2]>> {
+    let [l, t, r, b] = bx;
+    let mut out: Vec<Vec<[f64; 2]>> = Vec::new();
+    let mut cur: Vec<[f64; 2]> = Vec::new();
+    for seg in points.windows(2) {
+        let ([x0, y0], [x1, y1]) = (seg[0], seg[1]);
+        let (dx, dy) = (x1 - x0, y1 - y0);
+        let (mut u0, mut u1) = (0.0f64, 1.0f64);
+        let mut inside = true;
+        for (p, q) in [(-dx, x0 - l), (dx, r - x0), (-dy, y0 - t), (dy, b - y0)] {
+            if p == 0.0 {
+                if q < 0.0 {
+                    inside = false;
+                }
+            } else {
+                let u = q / p;
+                if p < 0.0 {
+                    u0 = u0.max(u);
+                } else {
+                    u1 = u1.min(u);
+                }
+            }
+        }
+        if !inside || u0 > u1 {
+            if cur.len() > 1 {
+                out.push(std::mem::take(&mut cur));
+            }
+            cur.clear();
+            continue;
+        }
+        let a = [x0 + u0 * dx, y0 + u0 * dy];
+        let e = [x0 + u1 * dx, y0 + u1 * dy];
+        if cur.last() != Some(&a) {
+            if cur.len() > 1 {
+                out.push(std::mem::take(&mut cur));
+            }
+            cur = vec![a];
+        }
+        cur.push(e);
+        if u1 < 1.0 {
+            out.push(std::mem::take(&mut cur));
+        }
+    }
+    if cur.len() > 1 {
+        out.push(cur);
+    }
+    out
+}
+
 /// A plan map of a grid: nodes as coloured cells, axes in map coordinates,
 /// colour bar, scale bar, north arrow and caution.
 pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
+    map_figure(
+        g,
+        &MapOptions {
+            title: title.into(),
+            units: units.into(),
+            ..Default::default()
+        },
+    )
+}
+
+/// A plan map of a grid with optional hillshade, contours, stations,
+/// polygons, section lines and collars.
+pub fn map_figure(g: &Grid2, o: &MapOptions) -> Figure {
     let mut f = Figure::new(900, 760);
-    let (map, lo, hi) = ColourMap::choose(&g.values);
+    let (map, lo, hi) = match o.colour_map {
+        Some(m) => {
+            let (lo, hi) = m.range_for(&g.values);
+            (m, lo, hi)
+        }
+        None => ColourMap::choose(&g.values),
+    };
     let (x0, x1, y0, y1) = g.extent();
     let (w, h) = ((x1 - x0).max(g.dx), (y1 - y0).max(g.dy));
     // Equal scale on both axes inside a 680 × 620 box.
@@ -660,21 +942,88 @@ pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
         x: [x0, x0 + w],
         y: [y0, y0 + h],
     };
-    f.text(90.0, 30.0, 15.0, Anchor::Start, title);
+    f.text(90.0, 30.0, 15.0, Anchor::Start, o.title.clone());
+    let shade = o.hillshade.then(|| {
+        crate::grid::shade::hillshade(g, 315.0, 45.0, crate::grid::shade::auto_exaggeration(g))
+    });
     for j in 0..g.ny {
         for i in 0..g.nx {
-            let v = g.values[i + g.nx * j];
+            let k = i + g.nx * j;
+            let v = g.values[k];
             if !v.is_finite() {
                 continue;
             }
             let p = fr.to_px(g.x_of(i) - 0.5 * g.dx, g.y_of(j) + 0.5 * g.dy);
-            f.rect(
-                p[0],
-                p[1],
-                g.dx * s + 0.6,
-                g.dy * s + 0.6,
-                map.at((v - lo) / (hi - lo)),
-            );
+            let mut c = map.at((v - lo) / (hi - lo));
+            if let Some(sh) = &shade {
+                c = crate::grid::shade::shade_colour(c, sh[k]);
+            }
+            f.rect(p[0], p[1], g.dx * s + 0.6, g.dy * s + 0.6, c);
+        }
+    }
+    let bx = fr.px;
+    let mut contour_step = None;
+    if let Some(interval) = o.contour_interval {
+        let lv = crate::grid::contour::levels(g, interval, 60);
+        contour_step = Some(if lv.len() > 1 {
+            lv[1] - lv[0]
+        } else {
+            interval
+        });
+        for level in lv {
+            for line in crate::grid::contour::contour(g, level) {
+                let px: Vec<[f64; 2]> = line.iter().map(|p| fr.to_px(p[0], p[1])).collect();
+                let len: f64 = px
+                    .windows(2)
+                    .map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1]))
+                    .sum();
+                let mid = px[px.len() / 2];
+                f.line(px, [40, 40, 40], 0.8);
+                if len > 150.0 {
+                    f.text(mid[0], mid[1] - 3.0, 9.0, Anchor::Middle, label(level));
+                }
+            }
+        }
+    }
+    for st in &o.stations {
+        let p = fr.to_px(st[0], st[1]);
+        if p[0] >= bx[0] && p[0] <= bx[2] && p[1] >= bx[1] && p[1] <= bx[3] {
+            f.rect(p[0] - 1.0, p[1] - 1.0, 2.0, 2.0, [20, 20, 20]);
+        }
+    }
+    let draw_named = |f: &mut Figure, name: &str, pts: Vec<[f64; 2]>, colour: Rgb| {
+        let px: Vec<[f64; 2]> = pts.iter().map(|p| fr.to_px(p[0], p[1])).collect();
+        let mut first = true;
+        for piece in clip_polyline(&px, bx) {
+            if first && !name.is_empty() {
+                f.text(
+                    piece[0][0] + 4.0,
+                    piece[0][1] - 4.0,
+                    11.0,
+                    Anchor::Start,
+                    name,
+                );
+                first = false;
+            }
+            f.line(piece, colour, 2.0);
+        }
+    };
+    for (name, poly) in &o.polygons {
+        let mut pts = poly.clone();
+        if let Some(p0) = poly.first() {
+            pts.push(*p0);
+        }
+        draw_named(&mut f, name, pts, [230, 120, 20]);
+    }
+    for (name, line) in &o.lines {
+        draw_named(&mut f, name, line.clone(), [10, 10, 10]);
+    }
+    for (id, c) in &o.collars {
+        let p = fr.to_px(c[0], c[1]);
+        if p[0] >= bx[0] && p[0] <= bx[2] && p[1] >= bx[1] && p[1] <= bx[3] {
+            f.line(vec![[p[0] - 4.0, p[1]], [p[0] + 4.0, p[1]]], [0, 0, 0], 2.0);
+            f.line(vec![[p[0], p[1] - 4.0], [p[0], p[1] + 4.0]], [0, 0, 0], 2.0);
+            f.text(p[0] + 6.0, p[1] - 5.0, 10.0, Anchor::Start, id.clone());
         }
     }
     axes(&mut f, &fr, "easting (m)", "northing (m)");
@@ -686,21 +1035,21 @@ pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
         map,
         lo,
         hi,
-        units,
+        &o.units,
     );
     // Scale bar: a round length near a fifth of the width.
     let len = round_below(0.25 * w);
-    let (bx, by) = (fr.px[0] + 10.0, fr.px[3] - 14.0);
-    f.rect(bx - 4.0, by - 16.0, len * s + 8.0, 24.0, [255, 255, 255]);
-    f.line(vec![[bx, by], [bx + len * s, by]], [0, 0, 0], 3.0);
+    let (sx, sy) = (fr.px[0] + 10.0, fr.px[3] - 14.0);
+    f.rect(sx - 4.0, sy - 16.0, len * s + 8.0, 24.0, [255, 255, 255]);
+    f.line(vec![[sx, sy], [sx + len * s, sy]], [0, 0, 0], 3.0);
     f.text(
-        bx + 0.5 * len * s,
-        by - 4.0,
+        sx + 0.5 * len * s,
+        sy - 4.0,
         11.0,
         Anchor::Middle,
         format!("{} m", label(len)),
     );
-    // North arrow.
+    // North arrow (grid north: the figure's axes are map coordinates).
     let (nx, ny) = (fr.px[2] - 24.0, fr.px[1] + 50.0);
     f.line(vec![[nx, ny], [nx, ny - 32.0]], [0, 0, 0], 2.0);
     f.line(
@@ -717,15 +1066,28 @@ pub fn grid_figure(g: &Grid2, title: &str, units: &str) -> Figure {
         .epsg
         .map(|c| format!("EPSG:{c}"))
         .unwrap_or_else(|| "coordinate reference unknown".into());
-    f.text(
-        90.0,
-        fr.px[3] + 56.0,
-        11.0,
-        Anchor::Start,
-        format!("{epsg}; {}", g.note),
-    );
-    f.text(90.0, fr.px[3] + 74.0, 11.0, Anchor::Start, FIGURE_CAUTION);
-    f.height = (fr.px[3] + 90.0) as u32;
+    let mut notes = vec![epsg];
+    if let Some(iv) = contour_step {
+        notes.push(format!(
+            "contours every {} {}",
+            label(iv),
+            o.units.split(" (").next().unwrap_or("")
+        ));
+    }
+    if o.hillshade {
+        notes.push("shaded from the north-west".into());
+    }
+    if !g.note.is_empty() {
+        notes.push(g.note.clone());
+    }
+    f.text(90.0, fr.px[3] + 56.0, 11.0, Anchor::Start, notes.join("; "));
+    let mut y = fr.px[3] + 74.0;
+    if !o.caption.is_empty() {
+        f.text(90.0, y, 11.0, Anchor::Start, o.caption.clone());
+        y += 18.0;
+    }
+    f.text(90.0, y, 11.0, Anchor::Start, FIGURE_CAUTION);
+    f.height = (y + 16.0) as u32;
     if let Some(Shape::Rect { h, .. }) = f.shapes.first_mut() {
         *h = f.height as f64;
     }
@@ -755,7 +1117,7 @@ mod tests {
     #[test]
     fn colour_maps_run_from_end_to_end_and_diverge_around_zero() {
         assert_eq!(ColourMap::Viridis.at(0.0), VIRIDIS[0]);
-        assert_eq!(ColourMap::Viridis.at(1.0), VIRIDIS[9]);
+        assert_eq!(ColourMap::Viridis.at(1.0), VIRIDIS[32]);
         assert_eq!(ColourMap::Diverging.at(0.5), [0xf7, 0xf7, 0xf7]);
         let (m, lo, hi) = ColourMap::choose(&[-1.0, 0.5, 2.0]);
         assert_eq!(m, ColourMap::Diverging);
@@ -788,11 +1150,20 @@ mod tests {
         let plain = section_figure(&samples, &tops, &[[0.0, 50.0], [100.0, 50.0]], "t", "g/cm³");
         assert_eq!((plain.width, plain.height), (1000, 580));
         let extras = SectionExtras {
-            holes: vec![("DH-7".into(), vec![[40.0, 50.0], [45.0, 10.0]])],
+            holes: vec![ProjectedHole {
+                id: "DH-7".into(),
+                trace: vec![[40.0, 50.0], [45.0, 10.0]],
+                logs: vec![
+                    ([40.0, 50.0], [42.5, 30.0], 0.125),
+                    ([42.5, 30.0], [45.0, 10.0], -0.05),
+                ],
+            }],
+            log_label: "logged density − 2.67 g/cm³".into(),
             observed: vec![[5.0, 1.0], [50.0, 2.0], [95.0, 1.5]],
             predicted: vec![[5.0, 1.1], [50.0, 1.9], [95.0, 1.5]],
             data_units: "mGal".into(),
             caption: "Example — scenario a — 2026-12-02".into(),
+            colour_map: None,
         };
         let f = section_figure_with(&samples, &tops, &[], "t", "g/cm³", &extras);
         assert_eq!(f.height, 740);
@@ -800,7 +1171,9 @@ mod tests {
         assert!(
             svg.contains("DH-7")
                 && svg.contains("RMS misfit 0.082 mGal")
-                && svg.contains("Example — scenario a"),
+                && svg.contains("Example — scenario a")
+                && svg.contains(">0.125<")
+                && svg.contains("beside holes: logged density − 2.67 g/cm³"),
             "{svg}"
         );
         assert!(svg.contains("vertical exaggeration"));

@@ -9,8 +9,10 @@
 
 pub mod biharmonic;
 pub mod blank;
+pub mod contour;
 pub mod geotiff;
 pub mod mincurv;
+pub mod shade;
 pub mod xyz;
 
 use serde::{Deserialize, Serialize};
@@ -206,6 +208,16 @@ impl Grid2 {
     /// Number of nodes with data.
     pub fn n_valid(&self) -> usize {
         self.values.iter().filter(|v| v.is_finite()).count()
+    }
+
+    /// Smallest and largest value with data; (∞, −∞) when there is none.
+    pub fn value_range(&self) -> (f64, f64) {
+        self.values
+            .iter()
+            .filter(|v| v.is_finite())
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+                (a.min(*v), b.max(*v))
+            })
     }
 }
 

@@ -144,6 +144,17 @@ pub struct ExportSettings {
     /// Also draw every section and slice as PNG and SVG figures.
     #[serde(default)]
     pub figures: bool,
+    /// PNG resolution, dots per inch (default 100: a section is 10 inches wide).
+    #[serde(default)]
+    pub figure_dpi: Option<f64>,
+    /// Colour map of model figures by name (viridis, cividis, diverging, grey);
+    /// default: diverging for values of both signs, else viridis.
+    #[serde(default)]
+    pub colour_map: Option<String>,
+    /// Drill holes and data within this distance of a section are projected
+    /// onto it, metres (default: one core cell).
+    #[serde(default)]
+    pub hole_distance_m: Option<f64>,
 }
 
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
