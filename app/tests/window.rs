@@ -74,7 +74,7 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     for (s, form_widget) in [
         ("Survey", "Preview"),
         ("Corrections", "Reduction density"),
-        ("Grids", "Cell size"),
+        ("Grids", "Contours"),
         ("Regional", "Polynomial trend"),
         ("Model space", "Core cell east-west"),
         ("Constraints", "Add layer"),
@@ -190,6 +190,11 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     step(&mut h, "Results");
     h.get_by_label("Section east-west").click();
     h.run_steps(3);
+    // The section view can outline the cells and shows drill holes.
+    h.get_by_label("Cell edges").click();
+    h.run_steps(2);
+    assert!(h.state().views.cell_edges);
+    assert!(h.query_by_label("Drill holes").is_some());
     h.get_by_label("Export section PNG").click();
     h.run_steps(2);
     let png = dir.join("runs/smooth/window_section_ew.png");
