@@ -226,6 +226,23 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         &grids,
     );
     assert!(grids.join("gravity_residual.tif").exists());
+    // Predicted and misfit grids of a run on the residual grid's lattice:
+    // the model explains most of the residual anomaly.
+    let rms = |g: &fieldstone_core::grid::Grid2| {
+        let v: Vec<f64> = g.values.iter().copied().filter(|v| v.is_finite()).collect();
+        (v.iter().map(|x| x * x).sum::<f64>() / v.len() as f64).sqrt()
+    };
+    let read = |p: &Path| fieldstone_core::grid::geotiff::read_geotiff(p).unwrap();
+    let residual = read(&dir.join("data/gravity_residual.tif"));
+    let predicted = read(&dir.join("runs/smooth/predicted.tif"));
+    let misfit = read(&dir.join("runs/smooth/misfit.tif"));
+    assert!(predicted.same_lattice(&residual) && misfit.same_lattice(&residual));
+    assert!(
+        rms(&misfit) < 0.2 * rms(&residual),
+        "misfit RMS {} vs residual RMS {}",
+        rms(&misfit),
+        rms(&residual)
+    );
     // Map figures of every grid: hillshade, automatic contours, 150 dpi.
     let maps = dir.join("maps-out");
     export_ok(
@@ -249,6 +266,7 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
         "legend of the map figure"
     );
     assert!(svg.contains(">HF-01<"), "collars on the map");
+    assert!(maps.join("smooth_misfit.svg").exists() && maps.join("smooth_predicted.svg").exists());
     let png = dir.join("slice150.png");
     export_ok(
         &dir,

@@ -390,21 +390,47 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                 .filter(|p| p.extension().is_some_and(|e| e == "tif"))
                 .collect();
             paths.sort();
-            for path in paths {
-                let name = path.file_name().unwrap_or_default().to_os_string();
+            // The run's own grids: predicted data and misfit.
+            let rd = pipeline::run_dir(&a.project_dir, &s.name);
+            let run_grids: Vec<PathBuf> = ["predicted.tif", "misfit.tif"]
+                .iter()
+                .map(|f| rd.join(f))
+                .filter(|p| p.exists())
+                .collect();
+            let prefix = pipeline::safe_name(&s.name);
+            for path in paths.into_iter().chain(run_grids.iter().cloned()) {
+                let from_run = run_grids.contains(&path);
+                let file = path
+                    .file_name()
+                    .unwrap_or_default()
+                    .to_string_lossy()
+                    .to_string();
+                let name: std::ffi::OsString = if from_run {
+                    format!("{prefix}_{file}").into()
+                } else {
+                    file.into()
+                };
                 if f == Format::Tif {
                     let to = a.out.join(&name);
                     std::fs::copy(&path, &to).map_err(|er| format!("{}: {er}", to.display()))?;
                 } else {
                     let g = fieldstone_core::grid::geotiff::read_geotiff(&path)
                         .map_err(|er| format!("{}: {er}", path.display()))?;
-                    let stem = path
+                    let stem = std::path::Path::new(&name)
                         .file_stem()
                         .unwrap_or_default()
                         .to_string_lossy()
                         .to_string();
-                    let stations = grid_stations(&a.project_dir, &stem);
-                    let units = grid_units(&stem, &g);
+                    let stations = if from_run {
+                        vec![]
+                    } else {
+                        grid_stations(&a.project_dir, &stem)
+                    };
+                    let units = if from_run {
+                        du.to_string()
+                    } else {
+                        grid_units(&stem, &g)
+                    };
                     let opts = pipeline::map_options(
                         &p,
                         Some(&m),

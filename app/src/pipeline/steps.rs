@@ -1329,12 +1329,62 @@ pub fn terrain_along(
     out
 }
 
+/// Predicted data and misfit (observed − predicted) of a run gridded on the
+/// lattice of the residual grid it inverted (minimum curvature, blanked where
+/// that grid is blank): `predicted.tif` and `misfit.tif` in the run folder.
+fn fit_grids(dir: &Path, s: &Scenario, rd: &Path) -> Result<Vec<String>, String> {
+    let kind = match s.data {
+        DataKind::Gravity => "gravity",
+        DataKind::Magnetic => "magnetic",
+    };
+    let (_, du) = units_of(s.data);
+    let Some((obs, pred)) = read_predicted(&rd.join("predicted.csv")) else {
+        return Ok(vec![]);
+    };
+    let template = read_geotiff(&data_path(dir, &format!("{kind}_residual.tif")))
+        .map_err(|e| e.to_string())?;
+    let x: Vec<f64> = obs.xyz.iter().map(|p| p[0]).collect();
+    let y: Vec<f64> = obs.xyz.iter().map(|p| p[1]).collect();
+    let misfit: Vec<f64> = obs.value.iter().zip(&pred).map(|(o, q)| o - q).collect();
+    let settings = fieldstone_core::grid::mincurv::MinCurvSettings::default();
+    let mut files = vec![];
+    for (name, v, what) in [
+        ("predicted", &pred, "predicted data"),
+        ("misfit", &misfit, "observed minus predicted"),
+    ] {
+        let mut g = fieldstone_core::grid::mincurv::min_curvature(
+            &x,
+            &y,
+            v,
+            &template,
+            &settings,
+            &fieldstone_core::progress::Silent,
+        )
+        .map_err(|e| format!("gridding the {what} of '{}': {e}", s.name))?;
+        for (gv, tv) in g.values.iter_mut().zip(&template.values) {
+            if !tv.is_finite() {
+                *gv = f64::NAN;
+            }
+        }
+        g.units = du.into();
+        g.epsg = template.epsg;
+        g.note = format!(
+            "{what} of scenario {}, gridded by minimum curvature",
+            s.name
+        );
+        let f = format!("{name}.tif");
+        write_geotiff(&rd.join(&f), &g).map_err(|e| e.to_string())?;
+        files.push(f);
+    }
+    Ok(files)
+}
+
 fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Result<String, String> {
     let m = ctx.model(p)?;
     let model = load_model(dir, &s.name, m.mesh.n_cells())?;
     let rd = run_dir(dir, &s.name);
     let (mu, _) = units_of(s.data);
-    let mut files = Vec::new();
+    let mut files = fit_grids(dir, s, &rd)?;
     let step = m.mesh.x[m.mesh.core[0].0 + 1] - m.mesh.x[m.mesh.core[0].0];
     for line in &p.exports.sections {
         let samples = section(&m.mesh, &model, &line.vertices, step).map_err(|e| e.to_string())?;
