@@ -119,19 +119,6 @@ fn style_of(a: &ExportArgs, p: &ProjectFile) -> Result<(pipeline::FigureStyle, f
     Ok((st, dpi))
 }
 
-/// The style for one grid: an automatic contour interval (about 12 lines)
-/// resolved against the grid's range.
-fn style_for_grid(
-    st: &pipeline::FigureStyle,
-    g: &fieldstone_core::grid::Grid2,
-) -> pipeline::FigureStyle {
-    let mut st = st.clone();
-    if st.contour_interval.is_some_and(|v| v.is_nan()) {
-        st.contour_interval = fieldstone_core::grid::contour::suggested_interval(g, 12);
-    }
-    st
-}
-
 fn parse_line(s: &str) -> Result<Vec<[f64; 2]>, String> {
     if !s.contains(';') {
         let v: Vec<f64> = s
@@ -368,7 +355,7 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                         s,
                         &g,
                         format!("{} — plan slice {}", s.name, level_text(level)),
-                        &style_for_grid(&style, &g),
+                        &style,
                     );
                     write_figure(&a.out, &fig, f, dpi)?;
                 }
@@ -436,7 +423,7 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
                         Some(&m),
                         None,
                         stations,
-                        &style_for_grid(&style, &g),
+                        &style,
                         stem.replace('_', " "),
                         &units,
                     );

@@ -131,27 +131,7 @@ pub struct MapResponse {
 pub struct Textures {
     map: HashMap<String, TextureHandle>,
     /// Contour lines by grid key and interval, with the interval used.
-    contours: HashMap<String, ContourSet>,
-}
-
-/// The interval used and each line with its level.
-type ContourSet = (f64, Vec<(f64, Vec<[f64; 2]>)>);
-
-/// Contour lines of a grid at an interval (NaN: a suggested one).
-fn contour_lines(g: &Grid2, interval: f64) -> ContourSet {
-    use fieldstone_core::grid::contour::{contour, levels, suggested_interval};
-    let iv = if interval.is_finite() {
-        interval
-    } else {
-        suggested_interval(g, 12).unwrap_or(1.0)
-    };
-    let lv = levels(g, iv, 60);
-    let used = if lv.len() > 1 { lv[1] - lv[0] } else { iv };
-    let lines = lv
-        .into_iter()
-        .flat_map(|l| contour(g, l).into_iter().map(move |line| (l, line)))
-        .collect();
-    (used, lines)
+    contours: HashMap<String, fieldstone_core::grid::contour::ContourSet>,
 }
 
 fn grid_image(g: &Grid2, c: &Colouring, hillshade: bool) -> ColorImage {
@@ -319,7 +299,7 @@ pub fn map(
             let (used, lines) = textures
                 .contours
                 .entry(ckey)
-                .or_insert_with(|| contour_lines(g, iv));
+                .or_insert_with(|| fieldstone_core::grid::contour::contour_set(g, iv));
             let stroke = Stroke::new(0.8, Color32::from_rgba_unmultiplied(20, 20, 20, 170));
             for (level, line) in lines.iter() {
                 let pts: Vec<Pos2> = line.iter().map(|p| frame.to_screen(rect, *p)).collect();

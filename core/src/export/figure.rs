@@ -167,12 +167,7 @@ impl ColourMap {
                 let m = lo.abs().max(hi.abs()).max(1e-12);
                 (-m, m)
             }
-            (_, ColourMap::Diverging) => {
-                let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
-                v.sort_by(|a, b| a.total_cmp(b));
-                let q = |p: f64| v[((v.len() - 1) as f64 * p).round() as usize];
-                (q(0.02), q(0.98))
-            }
+            (_, ColourMap::Diverging) => percentile_range(values).unwrap_or((lo, hi)),
             _ => (lo, hi),
         }
     }
@@ -180,13 +175,9 @@ impl ColourMap {
     /// The usual map and range for a set of values: diverging and symmetric
     /// when they straddle zero, sequential otherwise (2nd–98th percentiles).
     pub fn choose(values: &[f64]) -> (ColourMap, f64, f64) {
-        let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
-        if v.is_empty() {
+        let Some((lo, hi)) = percentile_range(values) else {
             return (ColourMap::Viridis, 0.0, 1.0);
-        }
-        v.sort_by(|a, b| a.total_cmp(b));
-        let q = |p: f64| v[((v.len() - 1) as f64 * p).round() as usize];
-        let (lo, hi) = (q(0.02), q(0.98));
+        };
         if lo < 0.0 && hi > 0.0 {
             let m = lo.abs().max(hi.abs());
             (ColourMap::Diverging, -m, m)
@@ -196,6 +187,17 @@ impl ColourMap {
             (ColourMap::Viridis, lo - 0.5, lo + 0.5)
         }
     }
+}
+
+/// The 2nd and 98th percentiles of the finite values, None when there are none.
+fn percentile_range(values: &[f64]) -> Option<(f64, f64)> {
+    let mut v: Vec<f64> = values.iter().copied().filter(|x| x.is_finite()).collect();
+    if v.is_empty() {
+        return None;
+    }
+    v.sort_by(|a, b| a.total_cmp(b));
+    let q = |p: f64| v[((v.len() - 1) as f64 * p).round() as usize];
+    Some((q(0.02), q(0.98)))
 }
 
 /// Horizontal anchor of a text.
@@ -844,7 +846,8 @@ pub struct MapOptions {
     pub colour_map: Option<ColourMap>,
     /// Shade the colours by the grid's own relief (light from the north-west).
     pub hillshade: bool,
-    /// Contour interval in the grid's units; None draws no contours.
+    /// Contour interval in the grid's units; None draws no contours, NaN
+    /// an automatic interval of about twelve lines.
     pub contour_interval: Option<f64>,
     /// Station positions (map metres).
     pub stations: Vec<[f64; 2]>,
@@ -964,24 +967,18 @@ pub fn map_figure(g: &Grid2, o: &MapOptions) -> Figure {
     let bx = fr.px;
     let mut contour_step = None;
     if let Some(interval) = o.contour_interval {
-        let lv = crate::grid::contour::levels(g, interval, 60);
-        contour_step = Some(if lv.len() > 1 {
-            lv[1] - lv[0]
-        } else {
-            interval
-        });
-        for level in lv {
-            for line in crate::grid::contour::contour(g, level) {
-                let px: Vec<[f64; 2]> = line.iter().map(|p| fr.to_px(p[0], p[1])).collect();
-                let len: f64 = px
-                    .windows(2)
-                    .map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1]))
-                    .sum();
-                let mid = px[px.len() / 2];
-                f.line(px, [40, 40, 40], 0.8);
-                if len > 150.0 {
-                    f.text(mid[0], mid[1] - 3.0, 9.0, Anchor::Middle, label(level));
-                }
+        let (used, lines) = crate::grid::contour::contour_set(g, interval);
+        contour_step = Some(used);
+        for (level, line) in lines {
+            let px: Vec<[f64; 2]> = line.iter().map(|p| fr.to_px(p[0], p[1])).collect();
+            let len: f64 = px
+                .windows(2)
+                .map(|w| (w[1][0] - w[0][0]).hypot(w[1][1] - w[0][1]))
+                .sum();
+            let mid = px[px.len() / 2];
+            f.line(px, [40, 40, 40], 0.8);
+            if len > 150.0 {
+                f.text(mid[0], mid[1] - 3.0, 9.0, Anchor::Middle, label(level));
             }
         }
     }

@@ -42,6 +42,27 @@ pub fn suggested_interval(g: &Grid2, n: usize) -> Option<f64> {
     (hi > lo).then(|| crate::export::figure::round_below((hi - lo) / n.max(1) as f64))
 }
 
+/// The interval used and each contour line with its level.
+pub type ContourSet = (f64, Vec<(f64, Vec<[f64; 2]>)>);
+
+/// Every contour line of a grid at `interval` (NaN: a suggested interval
+/// giving about twelve lines), at most 60 levels; returns the interval
+/// actually used (wider when the given one would make too many levels).
+pub fn contour_set(g: &Grid2, interval: f64) -> ContourSet {
+    let iv = if interval.is_finite() {
+        interval
+    } else {
+        suggested_interval(g, 12).unwrap_or(1.0)
+    };
+    let lv = levels(g, iv, 60);
+    let used = if lv.len() > 1 { lv[1] - lv[0] } else { iv };
+    let lines = lv
+        .into_iter()
+        .flat_map(|l| contour(g, l).into_iter().map(move |line| (l, line)))
+        .collect();
+    (used, lines)
+}
+
 /// Edge key: the two node indices, smaller first.
 type Edge = (usize, usize);
 
