@@ -57,3 +57,31 @@ fn overrides_and_errors() {
     let o = inspect(b"x,y\n", &["--delimiter", "pipe"]);
     assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("pipe"));
 }
+
+/// A file whose columns would not fit in the memory Fieldstone may use is
+/// refused before it is read, with the file, the size and what to change.
+#[test]
+fn a_file_too_big_for_the_memory_limit_is_refused_before_reading() {
+    let p = std::env::temp_dir().join(format!("fieldstone-inspect-big-{}.csv", std::process::id()));
+    let mut text = String::from("a,b,c,d,e,f,g,h\n");
+    text.push_str(&"1,2,3,4,5,6,7,8\n".repeat(1_200_000));
+    std::fs::write(&p, &text).unwrap();
+    let run = |mb: &str| {
+        Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+            .arg("inspect")
+            .arg(&p)
+            .env("FIELDSTONE_MEMORY_MB", mb)
+            .output()
+            .unwrap()
+    };
+    let o = run("50");
+    assert!(!o.status.success());
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(
+        e.contains(&p.display().to_string()) && e.contains("MB") && e.contains("split the file"),
+        "{e}"
+    );
+    let o = run("2000");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    std::fs::remove_file(&p).ok();
+}

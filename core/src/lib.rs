@@ -12,6 +12,7 @@ pub mod geodesy;
 pub mod grid;
 pub mod invert;
 pub mod io;
+pub mod memory;
 pub mod mesh;
 pub mod operator;
 pub mod physics;

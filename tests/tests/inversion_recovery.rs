@@ -399,3 +399,90 @@ fn dense_and_fft_runs_give_the_same_model() {
         "models differ by {diff} (scale {scale})"
     );
 }
+
+/// Numerical faults: each setting that leaves nothing sensible to compute is
+/// refused with a message saying which, and a run asked for a misfit the
+/// noise does not allow stops saying so, with no NaN anywhere in its output.
+#[test]
+fn numerical_faults_are_refused_or_reported_and_never_give_nan() {
+    let c = case();
+    let k = constraints(&c, &[]);
+    let try_with = |data: &[f64], unc: &[f64], s: &InversionSettings| {
+        let pb = Problem {
+            mesh: &c.mesh,
+            constraints: &k,
+            active: &c.active,
+            data,
+            uncertainty: unc,
+            reference_elevation_m: 1.0,
+        };
+        invert(&c.op, &pb, s, &Silent)
+    };
+    let unc = vec![SIGMA; c.data.len()];
+    let d = InversionSettings::default();
+    // Negative, infinite and NaN uncertainties name the datum.
+    for bad in [-SIGMA, f64::INFINITY, f64::NAN] {
+        let mut u = unc.clone();
+        u[7] = bad;
+        let e = try_with(&c.data, &u, &d).unwrap_err();
+        assert!(
+            matches!(e, InversionError::Uncertainty { index: 7, .. }),
+            "{e}"
+        );
+    }
+    // Data all NaN.
+    let nan = vec![f64::NAN; c.data.len()];
+    assert!(matches!(
+        try_with(&nan, &unc, &d).unwrap_err(),
+        InversionError::Data { index: 0 }
+    ));
+    // β = 0, cooling that never cools, a zero chi-factor.
+    for s in [
+        InversionSettings {
+            beta0_ratio: 0.0,
+            ..d.clone()
+        },
+        InversionSettings {
+            cooling: 1.0,
+            ..d.clone()
+        },
+        InversionSettings {
+            chi_factor: 0.0,
+            ..d.clone()
+        },
+    ] {
+        let e = try_with(&c.data, &unc, &s).unwrap_err().to_string();
+        assert!(e.contains("β settings"), "{e}");
+    }
+    // Bounds that exclude every value are refused by the constraint builder.
+    let act = active_cells(&c.mesh, None, false, false).unwrap();
+    let e = build(
+        &c.mesh,
+        &act,
+        &[positive(1.0, Some(0.5))],
+        Defaults::density(),
+        &Inputs::default(),
+    )
+    .unwrap_err()
+    .to_string();
+    assert!(e.contains("positive") && e.contains("lower"), "{e}");
+    // A target far below the noise: the run stops and says why; all finite.
+    let s = InversionSettings {
+        chi_factor: 0.01,
+        max_beta_iterations: 6,
+        ..d.clone()
+    };
+    let r = try_with(&c.data, &unc, &s).unwrap();
+    assert!(
+        r.summary.phi_d > r.summary.target_phi_d,
+        "the target below the noise was reached"
+    );
+    assert!(
+        !r.summary.stopped_because.is_empty()
+            && !r.summary.stopped_because.contains("target misfit reached"),
+        "{}",
+        r.summary.stopped_because
+    );
+    assert!(r.model.iter().chain(&r.predicted).all(|v| v.is_finite()));
+    assert!(r.summary.phi_m.is_finite() && r.summary.beta.is_finite());
+}

@@ -171,7 +171,7 @@ fn write_figure(
     } else {
         fig.svg().into_bytes()
     };
-    std::fs::write(out, bytes).map_err(|er| format!("{}: {er}", out.display()))
+    fieldstone_core::io::atomic::write_bytes_atomically(out, &bytes).map_err(|e| e.to_string())
 }
 
 fn level_text(l: SliceLevel) -> String {

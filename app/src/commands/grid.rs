@@ -7,7 +7,7 @@ use fieldstone_core::grid::geotiff::write_geotiff;
 use fieldstone_core::grid::mincurv::{min_curvature, MinCurvSettings};
 use fieldstone_core::grid::{Grid2, MAX_NODES};
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
-use fieldstone_core::progress::Silent;
+use fieldstone_core::progress::{Observer, Silent};
 use fieldstone_core::survey::lines::{split_lines, SplitRule};
 use fieldstone_core::survey::qc::spacing_of;
 use fieldstone_core::table::read::read_table;
@@ -78,6 +78,11 @@ fn column(t: &fieldstone_core::table::Table, name: &str) -> Result<Vec<f64>, Str
 }
 
 pub fn run(a: &GridArgs) -> Result<(), String> {
+    run_with(a, &Silent)
+}
+
+/// [`run`] reporting to `obs`, which may cancel the interpolation.
+pub fn run_with(a: &GridArgs, obs: &dyn Observer) -> Result<(), String> {
     if !(a.cell.is_finite() && a.cell > 0.0) {
         return Err(format!(
             "--cell {} must be a positive size in metres",
@@ -147,9 +152,9 @@ pub fn run(a: &GridArgs) -> Result<(), String> {
                 tension: a.tension,
                 ..Default::default()
             },
-            &Silent,
+            obs,
         ),
-        Method::Biharmonic => biharmonic(&x, &y, &v, &template, &Silent),
+        Method::Biharmonic => biharmonic(&x, &y, &v, &template, obs),
     }
     .map_err(|e| format!("{}: {e}", a.input.display()))?;
     // Default: four cells, but never less than the line spacing, so nodes

@@ -6,7 +6,7 @@ use fieldstone_core::geodesy::igrf::{decimal_year_of_date, IgrfModel};
 use fieldstone_core::geodesy::normal_gravity::GravityEllipsoid;
 use fieldstone_core::grid::geotiff::read_geotiff;
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
-use fieldstone_core::progress::Silent;
+use fieldstone_core::progress::{Observer, Silent};
 use fieldstone_core::reduce::drift::{reduce_drift, DriftSettings};
 use fieldstone_core::reduce::gravity::{reduce_station, FreeAir, GravitySettings};
 use fieldstone_core::reduce::magnetic::{diurnal, mean_inducing_field, BaseRecord};
@@ -303,6 +303,11 @@ fn guard_inputs(out: &Path, inputs: &[&Path]) -> Result<(), String> {
 }
 
 pub fn gravity(a: &GravityArgs) -> Result<(), String> {
+    gravity_with(a, &Silent)
+}
+
+/// [`gravity`] reporting to `obs`, which may cancel the terrain correction.
+pub fn gravity_with(a: &GravityArgs, obs: &dyn Observer) -> Result<(), String> {
     guard_inputs(&a.out, &[&a.input])?;
     if !(a.density.is_finite() && a.density > 0.0 && a.density < 10.0) {
         return Err(format!("--density {} is not a reduction density in g/cm³ (expected about 1.8 to 3.3; 2.67 is the common choice)", a.density));
@@ -425,7 +430,7 @@ pub fn gravity(a: &GravityArgs) -> Result<(), String> {
                 outer_radius_m: outer,
                 ..Default::default()
             };
-            terrain_corrections(&dem, far.as_ref(), &st, &ts, &Silent).map_err(|e| match e {
+            terrain_corrections(&dem, far.as_ref(), &st, &ts, obs).map_err(|e| match e {
                 fieldstone_core::reduce::terrain::TerrainError::StationOutside {
                     index, ..
                 } => format!("{}: line {}: {e}", t.file.display(), t.lines[index]),

@@ -6,10 +6,13 @@
 //! step before it), its parameters hash, the program version and its start
 //! and end time in the project's provenance; a step whose record matches and
 //! whose outputs exist is skipped. The project is saved atomically after
-//! every step, so an interrupted run loses at most the step in progress.
+//! every step, so an interrupted run loses at most the step in progress; a
+//! step that fails or is cancelled puts the files under `data/` and `runs/`
+//! back as they were before it (`core::io::undo`).
 
 mod data;
 pub use data::write_text;
+use fieldstone_core::io::undo::Snapshot;
 mod steps;
 
 pub use data::{load_points, Points};
@@ -376,8 +379,36 @@ pub fn run(
         let t0 = std::time::Instant::now();
         obs.message(&format!("{:<34} running", pl.key));
         let step = pl.key.split('/').next().unwrap_or("");
-        let summary = steps::run_step(step, p, ctx, scenario, obs)
-            .map_err(|e| format!("step {}: {e}", pl.key))?;
+        // A step that fails or is cancelled leaves the project's files as
+        // they were before it.
+        let snapshot = Snapshot::take(dir, &["data", "runs"]).map_err(|e| {
+            format!(
+                "step {}: could not record the project's files before the step: {e}",
+                pl.key
+            )
+        })?;
+        // A cancel that arrives while the step runs undoes the step, even
+        // when the step finished before it looked at the flag.
+        let outcome = match steps::run_step(step, p, ctx, scenario, obs) {
+            Ok(_) if obs.cancelled() => Err("cancelled".to_string()),
+            other => other,
+        };
+        let summary = match outcome {
+            Ok(s) => {
+                snapshot.discard().map_err(|e| e.to_string())?;
+                s
+            }
+            Err(e) => {
+                ctx.forget_model();
+                return Err(match snapshot.restore() {
+                    Ok(()) => format!("step {}: {e}", pl.key),
+                    Err(r) => format!(
+                        "step {}: {e}; putting the files back also failed: {r}",
+                        pl.key
+                    ),
+                });
+            }
+        };
         let secs = t0.elapsed().as_secs_f64();
         obs.message(&format!("{:<34} done in {secs:.1} s: {summary}", pl.key));
         record(p, pl, started);

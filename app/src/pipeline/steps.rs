@@ -22,6 +22,7 @@ use fieldstone_core::geodesy::normal_gravity::GravityEllipsoid;
 use fieldstone_core::grid::geotiff::{read_geotiff, write_geotiff};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::solver::{invert, Problem, RunResult};
+use fieldstone_core::io::atomic::write_bytes_atomically;
 use fieldstone_core::mesh::size::{available_memory_bytes, estimate, ASSUMED_MEMORY_BYTES};
 use fieldstone_core::mesh::topo::{active_cells, ActiveCells};
 use fieldstone_core::mesh::TensorMesh;
@@ -49,6 +50,10 @@ impl Context {
             dir: dir.to_path_buf(),
             model: None,
         }
+    }
+    /// Drops the loaded mesh and inputs (after a failed step).
+    pub fn forget_model(&mut self) {
+        self.model = None;
     }
     fn model(&mut self, p: &ProjectFile) -> Result<&ModelContext, String> {
         if self.model.is_none() {
@@ -132,8 +137,8 @@ pub fn run_step(
     let dir = ctx.dir.clone();
     match step {
         "import" => import(&dir, p),
-        "reduce" => reduce(&dir, p),
-        "grid" => grid(&dir, p),
+        "reduce" => reduce(&dir, p, obs),
+        "grid" => grid(&dir, p, obs),
         "regional" => regional(&dir, p, obs),
         "mesh" => {
             ctx.model = None;
@@ -167,7 +172,7 @@ pub fn run_step(
         }
         "exports" => {
             let s = scenario.ok_or("no scenario")?;
-            exports(&dir, p, ctx, s)
+            exports(&dir, p, ctx, s, obs)
         }
         other => Err(format!("unknown step {other}")),
     }
@@ -266,40 +271,43 @@ fn numeric_columns(
     Ok((t, cols))
 }
 
-fn reduce(dir: &Path, p: &ProjectFile) -> Result<String, String> {
+fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String, String> {
     let mut parts = Vec::new();
     if let Some(g) = &p.gravity {
         let s = p.gravity_reduction.unwrap_or_default();
         let out = data_path(dir, "gravity_reduced.csv");
-        crate::commands::reduce::gravity(&GravityArgs {
-            input: at(dir, &g.file)?,
-            density: s.density_g_cc,
-            out: out.clone(),
-            ellipsoid: match s.ellipsoid {
-                GravityEllipsoid::Grs80 => EllipsoidArg::Grs80,
-                GravityEllipsoid::Wgs84 => EllipsoidArg::Wgs84,
+        crate::commands::reduce::gravity_with(
+            &GravityArgs {
+                input: at(dir, &g.file)?,
+                density: s.density_g_cc,
+                out: out.clone(),
+                ellipsoid: match s.ellipsoid {
+                    GravityEllipsoid::Grs80 => EllipsoidArg::Grs80,
+                    GravityEllipsoid::Wgs84 => EllipsoidArg::Wgs84,
+                },
+                free_air: match s.free_air {
+                    FreeAir::SecondOrder => FreeAirArg::SecondOrder,
+                    FreeAir::FirstOrder => FreeAirArg::FirstOrder,
+                },
+                no_atmospheric: !s.atmospheric,
+                no_curvature: !s.curvature,
+                dem: match (&p.dem, g.terrain_outer_m) {
+                    (Some(d), Some(_)) => Some(at(dir, d)?),
+                    _ => None,
+                },
+                terrain_outer_m: g.terrain_outer_m.filter(|_| p.dem.is_some()),
+                terrain_inner_m: 0.0,
+                far_dem: None,
+                epsg: p.epsg,
+                base_value: g.base_value_mgal,
+                base_station: g.base_station.clone(),
+                max_drift: g.max_drift_mgal_per_h,
+                no_tide: !g.tide,
+                gravimetric_factor: g.gravimetric_factor,
+                date: None,
             },
-            free_air: match s.free_air {
-                FreeAir::SecondOrder => FreeAirArg::SecondOrder,
-                FreeAir::FirstOrder => FreeAirArg::FirstOrder,
-            },
-            no_atmospheric: !s.atmospheric,
-            no_curvature: !s.curvature,
-            dem: match (&p.dem, g.terrain_outer_m) {
-                (Some(d), Some(_)) => Some(at(dir, d)?),
-                _ => None,
-            },
-            terrain_outer_m: g.terrain_outer_m.filter(|_| p.dem.is_some()),
-            terrain_inner_m: 0.0,
-            far_dem: None,
-            epsg: p.epsg,
-            base_value: g.base_value_mgal,
-            base_station: g.base_station.clone(),
-            max_drift: g.max_drift_mgal_per_h,
-            no_tide: !g.tide,
-            gravimetric_factor: g.gravimetric_factor,
-            date: None,
-        })?;
+            obs,
+        )?;
         let (t, [x, y, h, cba]) = numeric_columns(
             &out,
             ["x", "y", "height_m", "complete_bouguer_anomaly_mgal"],
@@ -391,7 +399,7 @@ fn kinds(p: &ProjectFile) -> Vec<(&'static str, &'static str, &'static str, &'st
     v
 }
 
-fn grid(dir: &Path, p: &ProjectFile) -> Result<String, String> {
+fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String, String> {
     let gs = p
         .gridding
         .clone()
@@ -399,20 +407,23 @@ fn grid(dir: &Path, p: &ProjectFile) -> Result<String, String> {
     let mut parts = Vec::new();
     for (kind, file, col, units) in kinds(p) {
         let out = data_path(dir, &format!("{kind}_grid.tif"));
-        crate::commands::grid::run(&GridArgs {
-            input: data_path(dir, file),
-            x: "x".into(),
-            y: "y".into(),
-            value: col.into(),
-            cell: gs.cell_m,
-            out: out.clone(),
-            tension: gs.tension,
-            blank_m: None,
-            hull: false,
-            method: Method::MinCurvature,
-            epsg: p.epsg,
-            units: units.into(),
-        })?;
+        crate::commands::grid::run_with(
+            &GridArgs {
+                input: data_path(dir, file),
+                x: "x".into(),
+                y: "y".into(),
+                value: col.into(),
+                cell: gs.cell_m,
+                out: out.clone(),
+                tension: gs.tension,
+                blank_m: None,
+                hull: false,
+                method: Method::MinCurvature,
+                epsg: p.epsg,
+                units: units.into(),
+            },
+            obs,
+        )?;
         parts.push(format!("{kind} gridded at {} m", gs.cell_m));
     }
     Ok(parts.join(", "))
@@ -1332,7 +1343,12 @@ pub fn terrain_along(
 /// Predicted data and misfit (observed − predicted) of a run gridded on the
 /// lattice of the residual grid it inverted (minimum curvature, blanked where
 /// that grid is blank): `predicted.tif` and `misfit.tif` in the run folder.
-fn fit_grids(dir: &Path, s: &Scenario, rd: &Path) -> Result<Vec<String>, String> {
+fn fit_grids(
+    dir: &Path,
+    s: &Scenario,
+    rd: &Path,
+    observer: &dyn Observer,
+) -> Result<Vec<String>, String> {
     let kind = match s.data {
         DataKind::Gravity => "gravity",
         DataKind::Magnetic => "magnetic",
@@ -1353,12 +1369,7 @@ fn fit_grids(dir: &Path, s: &Scenario, rd: &Path) -> Result<Vec<String>, String>
         ("misfit", &misfit, "observed minus predicted"),
     ] {
         let mut g = fieldstone_core::grid::mincurv::min_curvature(
-            &x,
-            &y,
-            v,
-            &template,
-            &settings,
-            &fieldstone_core::progress::Silent,
+            &x, &y, v, &template, &settings, observer,
         )
         .map_err(|e| format!("gridding the {what} of '{}': {e}", s.name))?;
         for (gv, tv) in g.values.iter_mut().zip(&template.values) {
@@ -1379,14 +1390,29 @@ fn fit_grids(dir: &Path, s: &Scenario, rd: &Path) -> Result<Vec<String>, String>
     Ok(files)
 }
 
-fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Result<String, String> {
+fn exports(
+    dir: &Path,
+    p: &ProjectFile,
+    ctx: &mut Context,
+    s: &Scenario,
+    obs: &dyn Observer,
+) -> Result<String, String> {
+    let stop = || -> Result<(), String> {
+        if obs.cancelled() {
+            Err("cancelled".into())
+        } else {
+            Ok(())
+        }
+    };
     let m = ctx.model(p)?;
     let model = load_model(dir, &s.name, m.mesh.n_cells())?;
     let rd = run_dir(dir, &s.name);
     let (mu, _) = units_of(s.data);
-    let mut files = fit_grids(dir, s, &rd)?;
+    stop()?;
+    let mut files = fit_grids(dir, s, &rd, obs)?;
     let step = m.mesh.x[m.mesh.core[0].0 + 1] - m.mesh.x[m.mesh.core[0].0];
     for line in &p.exports.sections {
+        stop()?;
         let samples = section(&m.mesh, &model, &line.vertices, step).map_err(|e| e.to_string())?;
         let mut csv = format!(
             "# section '{}' of scenario '{}', {mu}; NaN in air\ndistance_m,x,y,elevation_m,value\n",
@@ -1420,13 +1446,13 @@ fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Resu
                 ("svg", fig.svg().into_bytes()),
             ] {
                 let f = format!("section_{}.{ext}", super::safe_name(&line.name));
-                std::fs::write(rd.join(&f), bytes)
-                    .map_err(|e| format!("{}: {e}", rd.join(&f).display()))?;
+                write_bytes_atomically(&rd.join(&f), &bytes).map_err(|e| e.to_string())?;
                 files.push(f);
             }
         }
     }
     for d in &p.exports.slice_depths_m {
+        stop()?;
         let g = plan_slice(
             &m.mesh,
             &model,
@@ -1452,8 +1478,7 @@ fn exports(dir: &Path, p: &ProjectFile, ctx: &mut Context, s: &Scenario) -> Resu
                 ("svg", fig.svg().into_bytes()),
             ] {
                 let f = format!("slice_{d}m_depth.{ext}");
-                std::fs::write(rd.join(&f), bytes)
-                    .map_err(|e| format!("{}: {e}", rd.join(&f).display()))?;
+                write_bytes_atomically(&rd.join(&f), &bytes).map_err(|e| e.to_string())?;
                 files.push(f);
             }
         }

@@ -101,9 +101,11 @@ pub struct FieldstoneApp {
     last_autosave: Instant,
     pub frame_ms: f32,
     /// With FIELDSTONE_FRAME_LOG set: every frame's times go to that file
-    /// (seconds since start, ui time, time since the previous frame, whether
-    /// a job runs) and frames are drawn continuously, for the frame-time
-    /// benchmark.
+    /// (seconds since start, ui time, the previous frame's whole work as
+    /// eframe measures it — ui, tessellation and painting, without the wait
+    /// for the buffer swap —, time since the previous frame, whether a job
+    /// runs) and frames are drawn continuously with vsync off, for the
+    /// frame-time benchmark.
     frame_log: Option<(std::io::BufWriter<std::fs::File>, Instant, Option<Instant>)>,
     pub show_frame_time: bool,
     allow_close: bool,
@@ -201,7 +203,7 @@ impl FieldstoneApp {
                     let mut w = std::io::BufWriter::new(f);
                     let _ = std::io::Write::write_all(
                         &mut w,
-                        b"t_s,ui_ms,frame_interval_ms,job_running\n",
+                        b"t_s,ui_ms,previous_frame_work_ms,frame_interval_ms,job_running\n",
                     );
                     (w, Instant::now(), None)
                 }),
@@ -833,7 +835,7 @@ impl FieldstoneApp {
 }
 
 impl eframe::App for FieldstoneApp {
-    fn ui(&mut self, ui: &mut egui::Ui, _frame: &mut eframe::Frame) {
+    fn ui(&mut self, ui: &mut egui::Ui, frame: &mut eframe::Frame) {
         let t0 = Instant::now();
         let ctx = ui.ctx().clone();
         self.poll_job();
@@ -893,8 +895,13 @@ impl eframe::App for FieldstoneApp {
             let interval = last.map(|l| t0.duration_since(l).as_secs_f64() * 1000.0);
             let _ = writeln!(
                 w,
-                "{:.3},{ui_ms:.3},{},{}",
+                "{:.3},{ui_ms:.3},{},{},{}",
                 start.elapsed().as_secs_f64(),
+                frame
+                    .info()
+                    .cpu_usage
+                    .map(|s| format!("{:.3}", s * 1000.0))
+                    .unwrap_or_default(),
                 interval.map(|v| format!("{v:.3}")).unwrap_or_default(),
                 running as u8
             );
@@ -955,6 +962,11 @@ pub fn open(project: Option<&Path>) -> Result<(), String> {
             .with_inner_size([1400.0, 880.0])
             .with_drag_and_drop(true),
         renderer: eframe::Renderer::Glow,
+        // The frame-time benchmark measures work, not the wait for vertical sync.
+        glow_options: eframe::egui_glow::GlowConfiguration {
+            vsync: std::env::var_os("FIELDSTONE_FRAME_LOG").is_none(),
+            ..Default::default()
+        },
         ..Default::default()
     };
     eframe::run_native(

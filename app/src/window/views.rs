@@ -997,9 +997,9 @@ pub fn export_section(app: &FieldstoneApp, ext: &str) -> String {
     } else {
         fig.svg().into_bytes()
     };
-    match std::fs::write(&path, bytes) {
+    match fieldstone_core::io::atomic::write_bytes_atomically(&path, &bytes) {
         Ok(()) => format!("wrote {}", path.display()),
-        Err(e) => format!("could not write {}: {e}", path.display()),
+        Err(e) => e.to_string(),
     }
 }
 
@@ -1034,7 +1034,10 @@ pub fn export_slice(app: &FieldstoneApp) -> String {
         &crate::pipeline::FigureStyle::of(&d.project),
     );
     let dpi = d.project.exports.figure_dpi.unwrap_or(BASE_DPI);
-    match std::fs::write(base.with_extension("png"), fig.png_at_dpi(dpi)) {
+    match fieldstone_core::io::atomic::write_bytes_atomically(
+        &base.with_extension("png"),
+        &fig.png_at_dpi(dpi),
+    ) {
         Ok(()) => format!("wrote {} and .png", tif.display()),
         Err(e) => e.to_string(),
     }

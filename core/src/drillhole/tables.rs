@@ -236,7 +236,7 @@ pub fn load_holes(spec: &DrillholeSpec) -> Result<(HoleSet, Vec<Issue>), Drillho
                     &s.file,
                     line,
                     &ids[k],
-                    "survey row has a missing or negative depth, azimuth or dip; ignored".into(),
+                    format!("survey row of hole '{}' has a missing or negative depth, azimuth or dip; ignored", ids[k]),
                 ));
                 continue;
             }
@@ -247,11 +247,26 @@ pub fn load_holes(spec: &DrillholeSpec) -> Result<(HoleSet, Vec<Issue>), Drillho
                     line,
                     &ids[k],
                     format!(
-                        "azimuth {} or dip {} is out of range; ignored",
-                        az[k], dip[k]
+                        "azimuth {} or dip {} of hole '{}' is out of range; ignored",
+                        az[k], dip[k], ids[k]
                     ),
                 ));
                 continue;
+            }
+            if let Some(td) = holes[h].total_depth_m {
+                // 1 m of slack for rounding at the end of the hole (common practice).
+                if at[k] > td + 1.0 {
+                    issues.push(Issue::at(
+                        &s.file,
+                        line,
+                        &ids[k],
+                        format!(
+                            "survey depth {} m is beyond the total depth {td} m of hole '{}'; ignored",
+                            at[k], ids[k]
+                        ),
+                    ));
+                    continue;
+                }
             }
             total += 1;
             if d > 0.0 {
@@ -329,8 +344,8 @@ pub fn load_holes(spec: &DrillholeSpec) -> Result<(HoleSet, Vec<Issue>), Drillho
                     line,
                     &ids[k],
                     format!(
-                        "interval from {} to {} is not a valid depth range; ignored",
-                        from[k], to[k]
+                        "interval from {} to {} in hole '{}' is not a valid depth range (from must be at least 0 and less than to); ignored",
+                        from[k], to[k], ids[k]
                     ),
                 ));
                 continue;

@@ -150,6 +150,18 @@ fn build(spec: FileSpec, file: &Path) -> Result<BodyFile, BodyFileError> {
             "the list is empty; give at least one body".into(),
         ));
     }
+    for (i, b) in spec.bodies.iter().enumerate() {
+        let Some(n) = &b.name else { continue };
+        if let Some(j) = spec.bodies[..i]
+            .iter()
+            .position(|c| c.name.as_deref() == Some(n))
+        {
+            return Err(invalid(
+                format!("bodies[{i}].name"),
+                format!("the name '{n}' is used twice (bodies[{j}] has it too); names must be unique so the bodies can be told apart in the output"),
+            ));
+        }
+    }
     let mut bodies = Vec::with_capacity(spec.bodies.len());
     for (i, b) in spec.bodies.into_iter().enumerate() {
         let at = |field: &str| format!("bodies[{i}].{field}");

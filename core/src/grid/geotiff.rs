@@ -62,11 +62,24 @@ impl From<crate::io::atomic::WriteError> for GeoTiffError {
 
 /// Reads a single-band GeoTIFF into a grid.
 pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
-    let file = path.to_path_buf();
     let f = std::fs::File::open(path).map_err(|source| GeoTiffError::Read {
-        file: file.clone(),
+        file: path.to_path_buf(),
         source,
     })?;
+    decode_geotiff(BufReader::new(f), path)
+}
+
+/// Reads a GeoTIFF from bytes in memory (tests, fuzzing); `path` is used in
+/// messages only.
+pub fn read_geotiff_bytes(bytes: &[u8], path: &Path) -> Result<Grid2, GeoTiffError> {
+    decode_geotiff(std::io::Cursor::new(bytes), path)
+}
+
+fn decode_geotiff<R: std::io::Read + std::io::Seek>(
+    f: R,
+    path: &Path,
+) -> Result<Grid2, GeoTiffError> {
+    let file = path.to_path_buf();
     let dec_err = |e: tiff::TiffError| GeoTiffError::Decode {
         file: path.to_path_buf(),
         message: e.to_string(),
@@ -75,9 +88,7 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
     limits.decoding_buffer_size = MAX_NODES * 8;
     limits.ifd_value_size = 64 << 20;
     limits.intermediate_buffer_size = 512 << 20;
-    let mut d = Decoder::new(BufReader::new(f))
-        .map_err(dec_err)?
-        .with_limits(limits);
+    let mut d = Decoder::new(f).map_err(dec_err)?.with_limits(limits);
     let (w, h) = d.dimensions().map_err(dec_err)?;
     let (nx, ny) = (w as usize, h as usize);
     if let Some(spp) = d
@@ -121,9 +132,7 @@ pub fn read_geotiff(path: &Path) -> Result<Grid2, GeoTiffError> {
         .or(key(KEY_GEOGRAPHIC_TYPE))
         .filter(|&c| c != 0 && c != 32767)
         .map(u32::from);
-    let f64s = |d: &mut Decoder<BufReader<std::fs::File>>,
-                t: Tag|
-     -> Result<Option<Vec<f64>>, GeoTiffError> {
+    let f64s = |d: &mut Decoder<R>, t: Tag| -> Result<Option<Vec<f64>>, GeoTiffError> {
         match d.find_tag(t).map_err(dec_err)? {
             Some(v) => Ok(Some(v.into_f64_vec().map_err(dec_err)?)),
             None => Ok(None),

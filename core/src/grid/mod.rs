@@ -44,6 +44,8 @@ pub struct Grid2 {
 /// Sampling and construction errors.
 #[derive(Debug, Error, PartialEq)]
 pub enum GridError {
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
     #[error("point ({x:.2}, {y:.2}) is outside the grid, which covers x {xmin:.2} to {xmax:.2} and y {ymin:.2} to {ymax:.2}")]
     Outside {
         x: f64,
@@ -95,6 +97,14 @@ impl Grid2 {
                 mb: nodes as f64 * 8.0 / 1e6,
                 max: MAX_NODES,
             });
+        }
+        // Grids below a million nodes (8 MB) are not worth asking about.
+        if nodes > 1 << 20 {
+            crate::memory::check_now(
+                &format!("a grid of {nx} × {ny} nodes"),
+                nodes as u64 * 8,
+                "use a coarser cell or a smaller area",
+            )?;
         }
         Ok(Grid2 {
             x0,

@@ -40,8 +40,20 @@ pub enum XyzError {
 /// Reads an XYZ grid; columns named x/y/(z|value|...) are used when present,
 /// otherwise the first three numeric columns.
 pub fn read_xyz(path: &Path, opts: &TextOptions) -> Result<Grid2, XyzError> {
+    xyz_from_table(read_table(path, opts, None)?, path)
+}
+
+/// Reads an XYZ grid from bytes in memory (tests, fuzzing); `path` is used
+/// in messages only.
+pub fn read_xyz_bytes(bytes: &[u8], path: &Path, opts: &TextOptions) -> Result<Grid2, XyzError> {
+    xyz_from_table(
+        crate::table::read::read_table_bytes(bytes, path, opts, None)?,
+        path,
+    )
+}
+
+fn xyz_from_table(t: crate::table::Table, path: &Path) -> Result<Grid2, XyzError> {
     let file = path.to_path_buf();
-    let t = read_table(path, opts, None)?;
     let numeric: Vec<usize> = (0..t.columns.len())
         .filter(|&i| matches!(t.columns[i], ColumnData::Number(_)))
         .collect();

@@ -65,6 +65,16 @@ where
     result
 }
 
+/// Writes `bytes` to `dest` atomically (see [`write_atomically`]).
+pub fn write_bytes_atomically(dest: &Path, bytes: &[u8]) -> Result<(), WriteError> {
+    write_atomically(dest, |w| {
+        w.write_all(bytes).map_err(|source| WriteError {
+            path: dest.to_path_buf(),
+            source,
+        })
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

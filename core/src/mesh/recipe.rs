@@ -53,7 +53,15 @@ pub enum MeshError {
         nz: usize,
         max: usize,
     },
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
 }
+
+/// Memory an inversion holds per mesh cell, bytes: the constraint arrays
+/// (bounds, reference, weights, starting model, smoothness and reference
+/// gradients per axis, about 16 values), the model and the solver's working
+/// vectors (about 12 values), as f64.
+pub const BYTES_PER_CELL: u64 = 28 * 8;
 
 /// Most cells a mesh may have.
 pub const MAX_CELLS: usize = 50_000_000;
@@ -150,8 +158,15 @@ impl MeshRecipe {
         out
     }
 
-    /// Builds the mesh.
+    /// Builds the mesh, refusing one whose cell arrays would not fit in the
+    /// memory available now.
     pub fn build(&self) -> Result<TensorMesh, MeshError> {
+        self.build_within(crate::memory::available_or_assumed())
+    }
+
+    /// Builds the mesh, refusing one whose cell arrays would not fit in
+    /// `available` bytes.
+    pub fn build_within(&self, available: u64) -> Result<TensorMesh, MeshError> {
         let [nx, ny, nz] = self.shape()?;
         let cells = nx.saturating_mul(ny).saturating_mul(nz);
         if cells > MAX_CELLS {
@@ -163,6 +178,12 @@ impl MeshRecipe {
                 max: MAX_CELLS,
             });
         }
+        crate::memory::check(
+            &format!("a mesh of {cells} cells ({nx} × {ny} × {nz}) with its inversion arrays"),
+            cells as u64 * BYTES_PER_CELL,
+            available,
+            "use coarser cells, fewer padding cells or a smaller core",
+        )?;
         let axis = |lo: f64, hi: f64, d: f64| -> (Vec<f64>, (usize, usize)) {
             let n = ((hi - lo) / d).ceil() as usize;
             // Centre the core cells on the requested range.

@@ -18,17 +18,8 @@ pub struct SizeEstimate {
     pub advice: Vec<String>,
 }
 
-/// Memory available to the program: MemAvailable from /proc/meminfo where
-/// there is one (Linux); `None` elsewhere.
-pub fn available_memory_bytes() -> Option<u64> {
-    let text = std::fs::read_to_string("/proc/meminfo").ok()?;
-    let line = text.lines().find(|l| l.starts_with("MemAvailable:"))?;
-    let kb: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
-    Some(kb * 1024)
-}
-
-/// Memory assumed when the system does not say (a common field laptop).
-pub const ASSUMED_MEMORY_BYTES: u64 = 8 << 30;
+pub use crate::memory::available_bytes as available_memory_bytes;
+pub use crate::memory::ASSUMED_BYTES as ASSUMED_MEMORY_BYTES;
 
 /// Estimates the cost of a dense-sensitivity inversion; refuses (fits = false)
 /// above 80 % of the available memory.

@@ -25,6 +25,8 @@ pub enum OperatorError {
     Cancelled,
     #[error("there are no data or no active cells")]
     Empty,
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
 }
 
 /// What the data measure.

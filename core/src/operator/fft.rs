@@ -51,10 +51,49 @@ impl FftOperator {
         mask: &[bool],
         survey: Survey,
     ) -> Result<FftOperator, OperatorError> {
+        Self::build_within(
+            mesh,
+            active,
+            z_m,
+            mask,
+            survey,
+            crate::memory::available_or_assumed(),
+        )
+    }
+
+    /// Bytes the operator holds for a mesh of `shape`: the kernel spectra
+    /// (one padded complex grid per layer) and the kernel row it is made
+    /// from.
+    pub fn bytes_needed(shape: [usize; 3]) -> u64 {
+        let [nx, ny, nz] = shape;
+        let (px, py) = (fast_size(2 * nx) as u64, fast_size(2 * ny) as u64);
+        let (kx, ky) = (
+            (2 * nx).saturating_sub(1) as u64,
+            (2 * ny).saturating_sub(1) as u64,
+        );
+        nz as u64 * (px * py * 16 + kx * ky * 8)
+    }
+
+    /// [`FftOperator::build`], refusing when the kernel spectra would not fit
+    /// in `available` bytes.
+    pub fn build_within(
+        mesh: &TensorMesh,
+        active: &[usize],
+        z_m: f64,
+        mask: &[bool],
+        survey: Survey,
+        available: u64,
+    ) -> Result<FftOperator, OperatorError> {
         let [nx, ny, nz] = mesh.shape();
         if !mesh.uniform_horizontal() || mask.len() != nx * ny || active.is_empty() {
             return Err(OperatorError::Empty);
         }
+        crate::memory::check(
+            &format!("the FFT operator's kernel spectra for {nx} × {ny} × {nz} cells"),
+            Self::bytes_needed([nx, ny, nz]),
+            available,
+            "use coarser horizontal cells or a smaller core",
+        )?;
         let (dx, dy) = (mesh.x[1] - mesh.x[0], mesh.y[1] - mesh.y[0]);
         // Kernel mesh: (2nx − 1) × (2ny − 1) columns centred on one station.
         let (kx, ky) = (2 * nx - 1, 2 * ny - 1);

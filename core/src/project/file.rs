@@ -219,6 +219,12 @@ pub enum ProjectError {
     },
     #[error("{file} has no schema_version; it is not a Fieldstone project file")]
     NoVersion { file: PathBuf },
+    #[error("{file}: at {field}: {message}")]
+    Invalid {
+        file: PathBuf,
+        field: String,
+        message: String,
+    },
     #[error(transparent)]
     Write(#[from] WriteError),
 }
@@ -284,21 +290,33 @@ impl ProjectFile {
             file: path.clone(),
             source,
         })?;
-        let value: serde_json::Value = serde_json::from_slice(crate::io::text::strip_bom(&bytes))
+        ProjectFile::parse(&bytes, &path)
+    }
+
+    /// Parses the bytes of a project file (see [`ProjectFile::load`]); `path`
+    /// is used in messages only.
+    pub fn parse(bytes: &[u8], path: &Path) -> Result<Loaded, ProjectError> {
+        let path = path.to_path_buf();
+        let value: serde_json::Value = serde_json::from_slice(crate::io::text::strip_bom(bytes))
             .map_err(|e| ProjectError::Syntax {
-            file: path.clone(),
-            path: ".".into(),
-            line: e.line(),
-            column: e.column(),
-            message: e.to_string(),
-        })?;
+                file: path.clone(),
+                path: ".".into(),
+                line: e.line(),
+                column: e.column(),
+                message: e.to_string(),
+            })?;
         let version = value
             .get("schema_version")
             .and_then(|v| v.as_u64())
             .ok_or(ProjectError::NoVersion { file: path.clone() })? as u32;
         let read_only_because = (version > SCHEMA_VERSION).then(|| format!("{} was written with schema version {version}, newer than this program's {SCHEMA_VERSION}; it opens read-only so nothing it holds is lost", path.display()));
-        let value = migrate(value, version);
-        let text = value.to_string();
+        // Read the file's own text when nothing was migrated, so positions
+        // in messages are the file's lines.
+        let text = if version >= SCHEMA_VERSION {
+            String::from_utf8_lossy(crate::io::text::strip_bom(bytes)).into_owned()
+        } else {
+            migrate(value, version).to_string()
+        };
         let mut de = serde_json::Deserializer::from_str(&text);
         let project: ProjectFile = serde_path_to_error::deserialize(&mut de).map_err(|e| {
             let p = e.path().to_string();
@@ -311,10 +329,85 @@ impl ProjectFile {
                 message: inner.to_string(),
             }
         })?;
+        project.validate(&path)?;
         Ok(Loaded {
             project,
             read_only_because,
         })
+    }
+
+    /// What the schema cannot say: every file the project names lies inside
+    /// its folder, and scenario, surface and wireframe names are unique.
+    pub fn validate(&self, file: &Path) -> Result<(), ProjectError> {
+        let invalid = |field: String, message: String| ProjectError::Invalid {
+            file: file.to_path_buf(),
+            field,
+            message,
+        };
+        let mut paths: Vec<(String, &str)> = Vec::new();
+        for (k, i) in self.imports.iter().enumerate() {
+            paths.push((format!("imports[{k}].file"), &i.file));
+        }
+        if let Some(g) = &self.gravity {
+            paths.push(("gravity.file".into(), &g.file));
+        }
+        if let Some(m) = &self.magnetic {
+            paths.push(("magnetic.file".into(), &m.file));
+            if let Some(b) = &m.base_file {
+                paths.push(("magnetic.base_file".into(), b));
+            }
+        }
+        if let Some(d) = &self.dem {
+            paths.push(("dem".into(), d));
+        }
+        if let Some(h) = &self.drill_holes {
+            paths.push(("drill_holes.collars".into(), &h.collars));
+            if let Some(s) = &h.surveys {
+                paths.push(("drill_holes.surveys".into(), s));
+            }
+            if let Some(s) = &h.intervals {
+                paths.push(("drill_holes.intervals".into(), s));
+            }
+        }
+        for (list, what) in [
+            (&self.surfaces, "surfaces"),
+            (&self.wireframes, "wireframes"),
+        ] {
+            for (k, n) in list.iter().enumerate() {
+                paths.push((format!("{what}[{k}].file"), &n.file));
+            }
+        }
+        if let Some(t) = &self.truth {
+            paths.push(("truth".into(), t));
+        }
+        for (field, rel) in paths {
+            crate::project::paths::resolve_inside(Path::new(""), rel)
+                .map_err(|e| invalid(field, e.to_string()))?;
+        }
+        let names = |what: &str, names: Vec<&str>| -> Result<(), ProjectError> {
+            for (k, n) in names.iter().enumerate() {
+                if let Some(j) = names[..k].iter().position(|m| m == n) {
+                    return Err(invalid(
+                        format!("{what}[{k}].name"),
+                        format!("the name '{n}' is used twice ({what}[{j}] has it too); names must be unique"),
+                    ));
+                }
+            }
+            Ok(())
+        };
+        names(
+            "scenarios",
+            self.scenarios.iter().map(|s| s.name.as_str()).collect(),
+        )?;
+        names(
+            "surfaces",
+            self.surfaces.iter().map(|s| s.name.as_str()).collect(),
+        )?;
+        names(
+            "wireframes",
+            self.wireframes.iter().map(|s| s.name.as_str()).collect(),
+        )?;
+        Ok(())
     }
 }
 

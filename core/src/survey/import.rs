@@ -150,6 +150,35 @@ impl ImportSpec {
     }
 }
 
+/// Eastings of a UTM or MGA zone lie within a few hundred kilometres of the
+/// 500 km false easting (common practice: 166–834 km on the equator); a
+/// survey whose "eastings" are far outside 50–950 km while its "northings"
+/// are inside has the two columns swapped.
+fn check_not_swapped(
+    x: &[f64],
+    y: &[f64],
+    columns: &[crate::survey::columns::ColumnSpec],
+    ix: usize,
+    iy: usize,
+) -> Result<(), String> {
+    let median = |v: &[f64]| {
+        let mut f: Vec<f64> = v.iter().copied().filter(|a| a.is_finite()).collect();
+        if f.is_empty() {
+            return None;
+        }
+        let m = f.len() / 2;
+        Some(*f.select_nth_unstable_by(m, f64::total_cmp).1)
+    };
+    let inside = |v: f64| (50_000.0..=950_000.0).contains(&v);
+    match (median(x), median(y)) {
+        (Some(mx), Some(my)) if !inside(mx) && inside(my) => Err(format!(
+            "column '{}' (easting) has median {mx:.0} m, outside the 50–950 km of a UTM zone, while column '{}' (northing) has median {my:.0} m: easting and northing look swapped; give the two columns each other's roles",
+            columns[ix].name, columns[iy].name
+        )),
+        _ => Ok(()),
+    }
+}
+
 fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
     let f = std::fs::File::open(path).map_err(|source| TableError::Read {
         file: path.to_path_buf(),
@@ -342,6 +371,14 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
     if projected_given {
         x = take_numbers(ix.unwrap_or(0));
         y = take_numbers(iy.unwrap_or(0));
+        if let Some(Crs::Utm { .. }) = &crs {
+            check_not_swapped(&x, &y, &spec.columns, ix.unwrap_or(0), iy.unwrap_or(0)).map_err(
+                |message| ImportError::Crs {
+                    file: file.clone(),
+                    message,
+                },
+            )?;
+        }
         if lat.is_none() {
             if let Some(c) = &crs {
                 let (la, lo) =

@@ -109,12 +109,19 @@ pub enum TableError {
         second: usize,
     },
     #[error(
-        "{file}: this looks like a binary file, not delimited text (byte {offset} is {byte:#04x})"
+        "{file}: line {line}: this looks like a binary file, not delimited text (byte {column} of the line is {byte:#04x})"
     )]
     Binary {
         file: PathBuf,
-        offset: usize,
+        line: u64,
+        /// 1-based byte position in the line.
+        column: usize,
         byte: u8,
+    },
+    #[error("{file}: {source}")]
+    Memory {
+        file: PathBuf,
+        source: crate::memory::MemoryError,
     },
     #[error("{file}: {given} column kinds given for {found} columns")]
     KindCount {

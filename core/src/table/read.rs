@@ -71,6 +71,24 @@ fn read_from(
     } else {
         (size_hint as f64 / head.len().max(1) as f64 * head_lines as f64) as usize + 16
     };
+    // What the columns will hold: 8 bytes a number, about 40 a short text
+    // (its heap block and the String), 8 for the line number.
+    let per_row: u64 = 8 + kinds
+        .iter()
+        .map(|k| if *k == ColumnKind::Number { 8 } else { 40 })
+        .sum::<u64>();
+    let need = per_row * est_rows as u64;
+    if need > 64 << 20 {
+        crate::memory::check_now(
+            &format!("reading about {est_rows} rows of {n_cols} columns"),
+            need,
+            "split the file, or leave out columns that are not needed",
+        )
+        .map_err(|source| TableError::Memory {
+            file: file.to_path_buf(),
+            source,
+        })?;
+    }
     let mut columns: Vec<ColumnData> = kinds
         .iter()
         .map(|k| {
@@ -110,7 +128,8 @@ fn read_from(
             let offset = raw.iter().position(|&b| b == 0).unwrap_or(0);
             return Err(TableError::Binary {
                 file: file.to_path_buf(),
-                offset,
+                line: line_no,
+                column: offset + 1,
                 byte: 0,
             });
         }

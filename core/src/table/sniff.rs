@@ -187,9 +187,15 @@ fn looks_numeric(t: &str, d: Delimiter, dummy: Option<f64>) -> bool {
 pub fn sniff(bytes: &[u8], file: &Path, opts: &TextOptions) -> Result<Sniffed, TableError> {
     let bytes = strip_bom(bytes);
     if let Some(offset) = bytes.iter().take(8192).position(|&b| b == 0) {
+        let before = &bytes[..offset];
+        let line_start = before
+            .iter()
+            .rposition(|&b| b == b'\n')
+            .map_or(0, |k| k + 1);
         return Err(TableError::Binary {
             file: file.to_path_buf(),
-            offset,
+            line: before.iter().filter(|&&b| b == b'\n').count() as u64 + 1,
+            column: offset - line_start + 1,
             byte: 0,
         });
     }

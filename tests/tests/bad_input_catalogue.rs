@@ -1,0 +1,775 @@
+//! The catalogue of bad inputs: one test per reader and case, named
+//! `<reader>_<case>`. Each asserts that the reader refuses (or, where the
+//! input is readable but suspicious, warns) with a message naming the file
+//! and the line, column or field, and never panics. That the project stays
+//! unchanged when a step meets such a file is tested with the pipeline
+//! (app/tests/bad_input_in_a_project.rs).
+
+use fieldstone_core::constraint::wireframe::Wireframe;
+use fieldstone_core::drillhole::tables::{load_holes, DrillholeSpec};
+use fieldstone_core::drillhole::DipConvention;
+use fieldstone_core::forward::bodies::read_body_file;
+use fieldstone_core::grid::geotiff::{read_geotiff, write_geotiff};
+use fieldstone_core::grid::Grid2;
+use fieldstone_core::project::file::{ProjectFile, PROJECT_FILE, SCHEMA_VERSION};
+use fieldstone_core::survey::import::{import_survey, ImportSpec, Survey};
+use fieldstone_core::table::{Delimiter, TextOptions};
+use std::path::{Path, PathBuf};
+
+fn scratch(case: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("fieldstone-bad-{case}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn put(dir: &Path, name: &str, bytes: &[u8]) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, bytes).unwrap();
+    p
+}
+
+/// Asserts that `msg` names the file and contains every one of `parts`.
+fn names(msg: &str, file: &str, parts: &[&str]) {
+    assert!(
+        msg.contains(file),
+        "the message does not name {file}: {msg}"
+    );
+    for p in parts {
+        assert!(msg.contains(p), "the message does not say '{p}': {msg}");
+    }
+}
+
+// ---------------------------------------------------------------- line data
+
+const GOOD_LINE: &str = "station,line,x,y,height_m,gravity_mgal\nA1,10,452000,5401000,312.0,4320.15\nA2,10,452050,5401000,313.5,4320.40\nA3,10,452100,5401000,314.1,4320.62\n";
+
+fn survey(case: &str, bytes: &[u8], text: TextOptions) -> Result<Survey, String> {
+    let d = scratch(&format!("line-{case}"));
+    let p = put(&d, "lines.csv", bytes);
+    let spec = ImportSpec::guess_for_file(&p, &text, Some(32617)).map_err(|e| e.to_string())?;
+    import_survey(&p, &spec).map_err(|e| e.to_string())
+}
+
+fn survey_err(case: &str, bytes: &[u8]) -> String {
+    survey(case, bytes, TextOptions::default()).expect_err("the reader accepted bad line data")
+}
+
+#[test]
+fn line_data_empty() {
+    names(&survey_err("empty", b""), "lines.csv", &["empty"]);
+}
+
+#[test]
+fn line_data_only_comments_and_a_header() {
+    names(
+        &survey_err("header", b"# crew notes\nstation,x,y,gravity_mgal\n"),
+        "lines.csv",
+        &["no data rows"],
+    );
+}
+
+#[test]
+fn line_data_truncated() {
+    let cut = &GOOD_LINE[..GOOD_LINE.len() - 14];
+    names(
+        &survey_err("truncated", cut.as_bytes()),
+        "lines.csv",
+        &["line 4"],
+    );
+}
+
+#[test]
+fn line_data_binary_garbage() {
+    let junk: Vec<u8> = (0..4096u64)
+        .map(|k| (k * 2_654_435_761 % 251) as u8)
+        .collect();
+    names(&survey_err("garbage", &junk), "lines.csv", &["binary"]);
+}
+
+#[test]
+fn line_data_wrong_delimiter() {
+    let text = TextOptions {
+        delimiter: Some(Delimiter::Semicolon),
+        ..TextOptions::default()
+    };
+    let e = survey("delimiter", GOOD_LINE.as_bytes(), text).unwrap_err();
+    names(&e, "lines.csv", &["coordinates"]);
+}
+
+#[test]
+fn line_data_ragged_rows() {
+    let t = GOOD_LINE.replace(
+        "A2,10,452050,5401000,313.5,4320.40",
+        "A2,10,452050,5401000,313.5",
+    );
+    names(
+        &survey_err("ragged", t.as_bytes()),
+        "lines.csv",
+        &["line 3", "expected 6 fields", "found 5"],
+    );
+}
+
+#[test]
+fn line_data_non_utf8_text_is_read_as_windows_1252() {
+    let mut b = GOOD_LINE.as_bytes().to_vec();
+    // "A2" becomes "Ä2" in Windows-1252 (0xC4), invalid as UTF-8.
+    let k = b.windows(2).position(|w| w == b"A2").unwrap();
+    b[k] = 0xC4;
+    let s = survey("cp1252", &b, TextOptions::default()).unwrap();
+    let st = s.station.as_ref().unwrap();
+    assert_eq!(st.text_at(1), "Ä2");
+}
+
+#[test]
+fn line_data_non_utf8_bytes_in_a_number() {
+    let t = GOOD_LINE.replace("4320.40", "4320.4\u{0}0");
+    names(
+        &survey_err("nul", t.as_bytes()),
+        "lines.csv",
+        &["line 3", "byte 34"],
+    );
+}
+
+#[test]
+fn line_data_huge_numbers() {
+    let t = GOOD_LINE.replace("4320.40", "1e400");
+    names(
+        &survey_err("huge", t.as_bytes()),
+        "lines.csv",
+        &["line 3", "gravity_mgal", "1e400"],
+    );
+}
+
+#[test]
+fn line_data_nan_and_inf() {
+    // NaN is a missing reading (counted as a dummy); inf is an error.
+    let t = GOOD_LINE.replace("4320.40", "NaN");
+    let s = survey("nan", t.as_bytes(), TextOptions::default()).unwrap();
+    assert!(s
+        .dummies
+        .iter()
+        .any(|(c, n)| c == "gravity_mgal" && *n == 1));
+    let t = GOOD_LINE.replace("4320.40", "inf");
+    names(
+        &survey_err("inf", t.as_bytes()),
+        "lines.csv",
+        &["line 3", "gravity_mgal"],
+    );
+}
+
+#[test]
+fn line_data_dummy_values() {
+    let t = GOOD_LINE.replace("4320.40", "-99999");
+    let text = TextOptions {
+        dummy_value: Some(-99999.0),
+        ..TextOptions::default()
+    };
+    let s = survey("dummy", t.as_bytes(), text).unwrap();
+    assert!(s
+        .dummies
+        .iter()
+        .any(|(c, n)| c == "gravity_mgal" && *n == 1));
+    let g = s
+        .channels
+        .iter()
+        .find(|c| c.name == "gravity_mgal")
+        .unwrap();
+    assert!(g.values[1].is_nan(), "a dummy became a number");
+}
+
+#[test]
+fn line_data_duplicate_column_names() {
+    let t = GOOD_LINE.replace("height_m", "x");
+    names(
+        &survey_err("dupcol", t.as_bytes()),
+        "lines.csv",
+        &["line 1", "'x'", "twice"],
+    );
+}
+
+#[test]
+fn line_data_missing_coordinates() {
+    let t = "station,gravity_mgal\nA1,4320.15\nA2,4320.40\n";
+    names(
+        &survey_err("nocoord", t.as_bytes()),
+        "lines.csv",
+        &["no coordinates"],
+    );
+}
+
+#[test]
+fn line_data_heights_that_look_like_feet() {
+    let t = GOOD_LINE
+        .replace("312.0", "9800.0")
+        .replace("313.5", "9805.0")
+        .replace("314.1", "9810.0");
+    let s = survey("feet", t.as_bytes(), TextOptions::default()).unwrap();
+    assert!(
+        s.warnings
+            .iter()
+            .any(|w| w.contains("height_m") && w.contains("feet")),
+        "{:?}",
+        s.warnings
+    );
+}
+
+#[test]
+fn line_data_easting_and_northing_swapped() {
+    let t = "station,y,x,gravity_mgal\nA1,452000,5401000,4320.15\nA2,452050,5401000,4320.40\nA3,452100,5401000,4320.62\n";
+    let r = survey("swapped", t.as_bytes(), TextOptions::default());
+    let msg = match r {
+        Ok(s) => s.warnings.join("; "),
+        Err(e) => e,
+    };
+    assert!(
+        msg.contains("swapped"),
+        "no word about swapped coordinates: {msg}"
+    );
+}
+
+#[test]
+fn line_data_latitude_and_longitude_swapped() {
+    // Longitudes of 121° W written in the latitude column are out of range.
+    let t = "station,lat,lon,gravity_mgal\nA1,-121.6,48.75,4320.15\nA2,-121.6,48.76,4320.40\n";
+    let d = scratch("line-latlon");
+    let p = put(&d, "lines.csv", t.as_bytes());
+    let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(4326)).unwrap();
+    let e = import_survey(&p, &spec).unwrap_err().to_string();
+    names(&e, "lines.csv", &["line 2", "lat"]);
+}
+
+// -------------------------------------------------------------- drill holes
+
+const COLLARS: &str =
+    "hole_id,x,y,z,total_depth\nH1,452650,5401300,316,160\nH2,452900,5401250,318,200\n";
+const SURVEYS: &str =
+    "hole_id,depth,azimuth,dip\nH1,0,0,-90\nH1,160,0,-90\nH2,0,270,-60\nH2,200,270,-60\n";
+const INTERVALS: &str = "hole_id,from,to,density\nH1,0,50,2.2\nH1,50,160,2.7\nH2,0,200,2.6\n";
+
+fn holes(
+    case: &str,
+    collars: &[u8],
+    surveys: &[u8],
+    intervals: &[u8],
+) -> Result<(fieldstone_core::drillhole::HoleSet, Vec<String>), String> {
+    let d = scratch(&format!("holes-{case}"));
+    let spec = DrillholeSpec {
+        collars: put(&d, "collars.csv", collars),
+        surveys: Some(put(&d, "surveys.csv", surveys)),
+        intervals: Some(put(&d, "intervals.csv", intervals)),
+        dip_convention: DipConvention::NegativeDown,
+        text: TextOptions::default(),
+    };
+    load_holes(&spec)
+        .map(|(h, i)| (h, i.iter().map(|x| x.to_string()).collect()))
+        .map_err(|e| e.to_string())
+}
+
+/// The message of a refusal, or the issues of a load that went through.
+fn holes_msg(case: &str, c: &str, s: &str, i: &str) -> String {
+    match holes(case, c.as_bytes(), s.as_bytes(), i.as_bytes()) {
+        Ok((_, issues)) => issues.join("; "),
+        Err(e) => e,
+    }
+}
+
+#[test]
+fn drill_holes_good_tables_load() {
+    let (h, issues) = holes(
+        "good",
+        COLLARS.as_bytes(),
+        SURVEYS.as_bytes(),
+        INTERVALS.as_bytes(),
+    )
+    .unwrap();
+    assert_eq!(h.holes.len(), 2);
+    assert!(issues.is_empty(), "{issues:?}");
+}
+
+#[test]
+fn drill_holes_empty_collars() {
+    names(
+        &holes_msg("empty", "", SURVEYS, INTERVALS),
+        "collars.csv",
+        &["empty"],
+    );
+}
+
+#[test]
+fn drill_holes_truncated_intervals() {
+    let cut = &INTERVALS[..INTERVALS.len() - 6];
+    names(
+        &holes_msg("trunc", COLLARS, SURVEYS, cut),
+        "intervals.csv",
+        &["line 4"],
+    );
+}
+
+#[test]
+fn drill_holes_binary_garbage() {
+    let junk: Vec<u8> = (0..2048u32).map(|k| (k * 40_503 % 256) as u8).collect();
+    let e = holes("garbage", &junk, SURVEYS.as_bytes(), INTERVALS.as_bytes()).unwrap_err();
+    names(&e, "collars.csv", &["binary"]);
+}
+
+#[test]
+fn drill_holes_ragged_rows() {
+    let s = SURVEYS.replace("H2,0,270,-60", "H2,0,270");
+    names(
+        &holes_msg("ragged", COLLARS, &s, INTERVALS),
+        "surveys.csv",
+        &["line 4"],
+    );
+}
+
+#[test]
+fn drill_holes_missing_columns() {
+    let i = INTERVALS.replace(",to,", ",until,");
+    names(
+        &holes_msg("missing", COLLARS, SURVEYS, &i),
+        "intervals.csv",
+        &["to"],
+    );
+    let c = COLLARS.replace("hole_id", "remark");
+    names(
+        &holes_msg("missing-id", &c, SURVEYS, INTERVALS),
+        "collars.csv",
+        &["hole"],
+    );
+}
+
+#[test]
+fn drill_holes_duplicate_ids() {
+    let c = format!("{COLLARS}H1,452700,5401300,316,160\n");
+    names(
+        &holes_msg("dup", &c, SURVEYS, INTERVALS),
+        "collars.csv",
+        &["line 4", "H1"],
+    );
+}
+
+#[test]
+fn drill_holes_nan_and_inf() {
+    let i = INTERVALS.replace("H1,50,160,2.7", "H1,50,inf,2.7");
+    names(
+        &holes_msg("inf", COLLARS, SURVEYS, &i),
+        "intervals.csv",
+        &["line 3"],
+    );
+    let c = COLLARS.replace("452900", "NaN");
+    names(
+        &holes_msg("nan", &c, SURVEYS, INTERVALS),
+        "collars.csv",
+        &["line 3", "H2"],
+    );
+}
+
+#[test]
+fn drill_holes_huge_numbers() {
+    let s = SURVEYS.replace("H1,160,0,-90", "H1,1e300,0,-90");
+    names(
+        &holes_msg("huge", COLLARS, &s, INTERVALS),
+        "surveys.csv",
+        &["line 3", "H1"],
+    );
+}
+
+#[test]
+fn drill_holes_intervals_in_the_wrong_order() {
+    let i = INTERVALS.replace("H1,50,160,2.7", "H1,160,50,2.7");
+    names(
+        &holes_msg("order", COLLARS, SURVEYS, &i),
+        "intervals.csv",
+        &["line 3", "H1"],
+    );
+}
+
+#[test]
+fn drill_holes_dips_that_look_like_the_other_convention() {
+    let s = SURVEYS.replace(",-90", ",90").replace(",-60", ",60");
+    let m = holes_msg("dips", COLLARS, &s, INTERVALS);
+    assert!(
+        m.contains("surveys.csv") && m.contains("positive down"),
+        "{m}"
+    );
+}
+
+#[test]
+fn drill_holes_unknown_hole_in_intervals() {
+    let i = format!("{INTERVALS}H9,0,10,2.5\n");
+    names(
+        &holes_msg("unknown", COLLARS, SURVEYS, &i),
+        "intervals.csv",
+        &["line 5", "H9"],
+    );
+}
+
+// ----------------------------------------------------------------- GeoTIFF
+
+fn good_tiff(dir: &Path) -> Vec<u8> {
+    let mut g = Grid2::new_empty(452_000.0, 5_400_000.0, 25.0, 25.0, 8, 6).unwrap();
+    for (k, v) in g.values.iter_mut().enumerate() {
+        *v = 300.0 + k as f64;
+    }
+    g.epsg = Some(32617);
+    let p = dir.join("good.tif");
+    write_geotiff(&p, &g).unwrap();
+    std::fs::read(&p).unwrap()
+}
+
+fn tiff_err(case: &str, bytes: &[u8]) -> String {
+    let d = scratch(&format!("tif-{case}"));
+    let p = put(&d, "terrain.tif", bytes);
+    read_geotiff(&p)
+        .expect_err("a bad GeoTIFF was accepted")
+        .to_string()
+}
+
+#[test]
+fn geotiff_empty() {
+    names(
+        &tiff_err("empty", b""),
+        "terrain.tif",
+        &["not a readable TIFF"],
+    );
+}
+
+#[test]
+fn geotiff_truncated() {
+    let d = scratch("tif-trunc-src");
+    let b = good_tiff(&d);
+    for cut in [8, b.len() / 3, b.len() - 10] {
+        names(&tiff_err("truncated", &b[..cut]), "terrain.tif", &[]);
+    }
+}
+
+#[test]
+fn geotiff_binary_garbage() {
+    let mut junk: Vec<u8> = b"II*\0".to_vec();
+    junk.extend((0..1000u32).map(|k| (k * 7919 % 256) as u8));
+    names(
+        &tiff_err("garbage", &junk),
+        "terrain.tif",
+        &["not a readable TIFF"],
+    );
+}
+
+#[test]
+fn geotiff_a_text_file_named_tif() {
+    names(
+        &tiff_err("text", GOOD_LINE.as_bytes()),
+        "terrain.tif",
+        &["not a readable TIFF"],
+    );
+}
+
+#[test]
+fn geotiff_every_byte_flipped_somewhere_never_panics() {
+    let d = scratch("tif-flip-src");
+    let b = good_tiff(&d);
+    let p = d.join("terrain.tif");
+    for k in (0..b.len()).step_by(7) {
+        let mut c = b.clone();
+        c[k] ^= 0xA5;
+        std::fs::write(&p, &c).unwrap();
+        if let Err(e) = read_geotiff(&p) {
+            assert!(e.to_string().contains("terrain.tif"), "{e}");
+        }
+    }
+}
+
+// -------------------------------------------------------------- wireframes
+
+const CUBE_OBJ: &str = "v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nv 0 0 1\nv 1 0 1\nv 1 1 1\nv 0 1 1\nf 1 3 2\nf 1 4 3\nf 5 6 7\nf 5 7 8\nf 1 2 6\nf 1 6 5\nf 2 3 7\nf 2 7 6\nf 3 4 8\nf 3 8 7\nf 4 1 5\nf 4 5 8\n";
+
+fn wire_err(name: &str, bytes: &[u8]) -> String {
+    let d = scratch(&format!("wire-{name}"));
+    let p = put(&d, name, bytes);
+    Wireframe::read(&p)
+        .expect_err("a bad wireframe was accepted")
+        .to_string()
+}
+
+#[test]
+fn wireframe_good_cube_reads() {
+    let d = scratch("wire-good");
+    let w = Wireframe::read(&put(&d, "cube.obj", CUBE_OBJ.as_bytes())).unwrap();
+    assert_eq!((w.vertices.len(), w.triangles.len()), (8, 12));
+}
+
+#[test]
+fn wireframe_empty() {
+    names(&wire_err("body.obj", b""), "body.obj", &["no triangles"]);
+    names(&wire_err("body.stl", b""), "body.stl", &[]);
+}
+
+#[test]
+fn wireframe_truncated() {
+    names(
+        &wire_err("body.obj", &CUBE_OBJ.as_bytes()[..CUBE_OBJ.len() - 3]),
+        "body.obj",
+        &["line 20"],
+    );
+    // A binary STL that promises 12 triangles and holds 3.
+    let mut stl = vec![0u8; 80];
+    stl.extend(12u32.to_le_bytes());
+    stl.extend(vec![0u8; 50 * 3]);
+    names(&wire_err("body.stl", &stl), "body.stl", &["12"]);
+}
+
+#[test]
+fn wireframe_binary_garbage() {
+    let junk: Vec<u8> = (0..3000u32).map(|k| (k * 97 % 256) as u8).collect();
+    names(&wire_err("body.obj", &junk), "body.obj", &[]);
+    names(&wire_err("body.stl", &junk), "body.stl", &[]);
+}
+
+#[test]
+fn wireframe_face_index_out_of_range() {
+    let t = CUBE_OBJ.replace("f 5 7 8", "f 5 7 80");
+    names(
+        &wire_err("body.obj", t.as_bytes()),
+        "body.obj",
+        &["line 12", "80"],
+    );
+}
+
+#[test]
+fn wireframe_nan_and_huge_coordinates() {
+    let t = CUBE_OBJ.replace("v 1 1 1", "v 1 NaN 1");
+    names(&wire_err("body.obj", t.as_bytes()), "body.obj", &["line 7"]);
+    let t = CUBE_OBJ.replace("v 1 1 1", "v 1 1e400 1");
+    names(&wire_err("body.obj", t.as_bytes()), "body.obj", &["line 7"]);
+}
+
+#[test]
+fn wireframe_non_utf8_bytes() {
+    let mut b = CUBE_OBJ.as_bytes().to_vec();
+    b.splice(0..0, b"# d\xe9coupage\n".iter().copied());
+    let d = scratch("wire-utf");
+    let w = Wireframe::read(&put(&d, "body.obj", &b)).unwrap();
+    assert_eq!(w.triangles.len(), 12);
+    let t = CUBE_OBJ.replace("v 1 1 1", "v 1 \u{ff}1 1");
+    names(&wire_err("body.obj", t.as_bytes()), "body.obj", &["line 7"]);
+}
+
+#[test]
+fn wireframe_wrong_extension() {
+    names(
+        &wire_err("body.dxf", CUBE_OBJ.as_bytes()),
+        "body.dxf",
+        &[".obj or .stl"],
+    );
+}
+
+// ----------------------------------------------------------- project files
+
+fn project_err(case: &str, bytes: &[u8]) -> String {
+    let d = scratch(&format!("proj-{case}"));
+    put(&d, PROJECT_FILE, bytes);
+    ProjectFile::load(&d)
+        .expect_err("a bad project file was accepted")
+        .to_string()
+}
+
+fn good_project_text() -> String {
+    serde_json::to_string_pretty(&ProjectFile::new("catalogue")).unwrap()
+}
+
+#[test]
+fn project_file_empty() {
+    names(&project_err("empty", b""), PROJECT_FILE, &["line 1"]);
+}
+
+#[test]
+fn project_file_truncated() {
+    let t = good_project_text();
+    names(
+        &project_err("trunc", &t.as_bytes()[..t.len() / 2]),
+        PROJECT_FILE,
+        &["line"],
+    );
+}
+
+#[test]
+fn project_file_binary_garbage() {
+    let junk: Vec<u8> = (0..500u32).map(|k| (k * 31 % 256) as u8).collect();
+    names(&project_err("garbage", &junk), PROJECT_FILE, &[]);
+}
+
+#[test]
+fn project_file_wrong_type() {
+    let t = good_project_text().replace("\"catalogue\"", "17");
+    names(
+        &project_err("type", t.as_bytes()),
+        PROJECT_FILE,
+        &["name", "line 3"],
+    );
+}
+
+#[test]
+fn project_file_missing_schema_version() {
+    names(
+        &project_err("schema", b"{\"name\": \"x\"}"),
+        PROJECT_FILE,
+        &["schema_version"],
+    );
+}
+
+#[test]
+fn project_file_huge_numbers_and_nan() {
+    let t = good_project_text().replace(
+        &format!("\"schema_version\": {SCHEMA_VERSION}"),
+        "\"schema_version\": 1e400",
+    );
+    names(&project_err("huge", t.as_bytes()), PROJECT_FILE, &["line"]);
+    let t = good_project_text().replace(
+        &format!("\"schema_version\": {SCHEMA_VERSION}"),
+        "\"schema_version\": NaN",
+    );
+    names(&project_err("nan", t.as_bytes()), PROJECT_FILE, &["line"]);
+}
+
+#[test]
+fn project_file_non_utf8_bytes() {
+    let t = good_project_text().replace("catalogue", "cat\u{1}alogue");
+    let mut b = t.into_bytes();
+    let k = b.iter().position(|c| *c == 1).unwrap();
+    b[k] = 0xFF;
+    names(&project_err("utf8", &b), PROJECT_FILE, &["line"]);
+}
+
+#[test]
+fn project_file_duplicate_scenario_names() {
+    let mut p = ProjectFile::new("dups");
+    p.scenarios = fieldstone_core::demo::generate::demo_scenarios();
+    let name = p.scenarios[0].name.clone();
+    p.scenarios[1].name = name.clone();
+    let t = serde_json::to_string_pretty(&p).unwrap();
+    names(
+        &project_err("dupscen", t.as_bytes()),
+        PROJECT_FILE,
+        &[&name, "twice"],
+    );
+}
+
+#[test]
+fn project_file_paths_that_leave_the_project() {
+    let mut v: serde_json::Value = serde_json::from_str(&good_project_text()).unwrap();
+    v["dem"] = serde_json::json!("../../etc/passwd");
+    let t = serde_json::to_string_pretty(&v).unwrap();
+    names(
+        &project_err("escape", t.as_bytes()),
+        PROJECT_FILE,
+        &["dem", "leaves the project folder"],
+    );
+    v["dem"] = serde_json::json!("/etc/passwd");
+    let t = serde_json::to_string_pretty(&v).unwrap();
+    names(
+        &project_err("absolute", t.as_bytes()),
+        PROJECT_FILE,
+        &["dem", "absolute"],
+    );
+}
+
+#[test]
+fn project_file_from_a_newer_program_opens_read_only() {
+    let t = good_project_text().replace(
+        &format!("\"schema_version\": {SCHEMA_VERSION}"),
+        "\"schema_version\": 99",
+    );
+    let d = scratch("proj-newer");
+    put(&d, PROJECT_FILE, t.as_bytes());
+    let l = ProjectFile::load(&d).unwrap();
+    assert!(l.read_only_because.unwrap().contains("99"));
+}
+
+// -------------------------------------------------------------- body files
+
+const BODIES: &str = r#"{
+  "inducing_field": {"intensity_nt": 55000, "inclination_deg": 70, "declination_deg": -5},
+  "bodies": [
+    {"name": "block", "prism": {"x": [100, 300], "y": [-50, 50], "z": [-400, -100]},
+     "density_contrast_gcc": 0.25, "susceptibility_si": 0.03}
+  ]
+}"#;
+
+fn body_err(case: &str, bytes: &[u8]) -> String {
+    let d = scratch(&format!("body-{case}"));
+    let p = put(&d, "bodies.json", bytes);
+    read_body_file(&p)
+        .expect_err("a bad body file was accepted")
+        .to_string()
+}
+
+#[test]
+fn body_file_good_reads() {
+    let d = scratch("body-good");
+    assert!(read_body_file(&put(&d, "bodies.json", BODIES.as_bytes())).is_ok());
+}
+
+#[test]
+fn body_file_empty() {
+    names(&body_err("empty", b""), "bodies.json", &["line 1"]);
+}
+
+#[test]
+fn body_file_truncated() {
+    names(
+        &body_err("trunc", &BODIES.as_bytes()[..BODIES.len() - 20]),
+        "bodies.json",
+        &["line"],
+    );
+}
+
+#[test]
+fn body_file_binary_garbage() {
+    let junk: Vec<u8> = (0..500u32).map(|k| (k * 131 % 256) as u8).collect();
+    names(&body_err("garbage", &junk), "bodies.json", &[]);
+}
+
+#[test]
+fn body_file_huge_numbers() {
+    let t = BODIES.replace("0.25", "1e400");
+    names(&body_err("huge", t.as_bytes()), "bodies.json", &["line"]);
+    let t = BODIES.replace("0.25", "2500");
+    names(
+        &body_err("kgm3", t.as_bytes()),
+        "bodies.json",
+        &["density_contrast_gcc"],
+    );
+}
+
+#[test]
+fn body_file_corners_in_the_wrong_order() {
+    let t = BODIES.replace("[100, 300]", "[300, 100]");
+    names(
+        &body_err("order", t.as_bytes()),
+        "bodies.json",
+        &["bodies[0]", "x"],
+    );
+}
+
+#[test]
+fn body_file_missing_field() {
+    let t = BODIES.replace("\"prism\"", "\"shape\"");
+    names(
+        &body_err("missing", t.as_bytes()),
+        "bodies.json",
+        &["bodies[0]"],
+    );
+}
+
+#[test]
+fn body_file_duplicate_names() {
+    let t = BODIES.replace(
+        "\"susceptibility_si\": 0.03}",
+        "\"susceptibility_si\": 0.03},\n    {\"name\": \"block\", \"prism\": {\"x\": [400, 500], \"y\": [-50, 50], \"z\": [-400, -100]}, \"density_contrast_gcc\": 0.1}",
+    );
+    names(
+        &body_err("dupname", t.as_bytes()),
+        "bodies.json",
+        &["block", "twice"],
+    );
+}

@@ -1,0 +1,70 @@
+//! Every allocation that follows the user's data is estimated first and
+//! refused, with the size and what to change, when it would not fit. Each test
+//! sets the memory available (the functions take it, or the
+//! FIELDSTONE_MEMORY_MB variable in a child process) so the refusal does not
+//! depend on this machine.
+
+use fieldstone_core::memory::{check, SHARE};
+use fieldstone_core::mesh::recipe::{MeshRecipe, BYTES_PER_CELL};
+use fieldstone_core::operator::dense::{DenseOperator, OperatorError, Survey};
+use fieldstone_core::operator::fft::FftOperator;
+use fieldstone_core::progress::Silent;
+
+#[test]
+fn a_mesh_too_big_for_memory_is_refused_before_it_is_built() {
+    // 200 × 200 × 50 = 2 000 000 cells at 25 m: 448 MB of cell arrays.
+    let r = MeshRecipe::uniform(25.0, 25.0, [0.0, 5000.0], [0.0, 5000.0], 0.0, 1250.0);
+    let cells = 200u64 * 200 * 50;
+    let need = cells * BYTES_PER_CELL;
+    assert!(r.build_within(2 * need).is_ok());
+    let e = r.build_within(need).unwrap_err().to_string();
+    assert!(e.contains("2000000 cells") && e.contains("448 MB"), "{e}");
+    assert!(e.contains("coarser cells"), "{e}");
+}
+
+#[test]
+fn an_fft_operator_too_big_for_memory_is_refused() {
+    let mesh = MeshRecipe::uniform(50.0, 50.0, [0.0, 2000.0], [0.0, 2000.0], 0.0, 500.0)
+        .build()
+        .unwrap();
+    let [nx, ny, nz] = mesh.shape();
+    let active: Vec<usize> = (0..mesh.n_cells()).collect();
+    let mask = vec![true; nx * ny];
+    let need = FftOperator::bytes_needed([nx, ny, nz]);
+    // 40 × 40 × 10 cells: 10 layers of an 80 × 80 complex grid, 16 bytes each,
+    // and the 79 × 79 kernel row, 8 bytes each.
+    assert_eq!(need, 10 * (80 * 80 * 16 + 79 * 79 * 8));
+    let ok = FftOperator::build_within(&mesh, &active, 1.0, &mask, Survey::Gravity, 2 * need);
+    assert!(ok.is_ok());
+    let e = FftOperator::build_within(&mesh, &active, 1.0, &mask, Survey::Gravity, need)
+        .err()
+        .expect("refused")
+        .to_string();
+    assert!(e.contains("FFT operator") && e.contains("MB"), "{e}");
+}
+
+#[test]
+fn a_dense_sensitivity_too_big_for_its_budget_is_refused() {
+    let mesh = MeshRecipe::uniform(50.0, 50.0, [0.0, 500.0], [0.0, 500.0], 0.0, 200.0)
+        .build()
+        .unwrap();
+    let active: Vec<usize> = (0..mesh.n_cells()).collect();
+    let stations: Vec<[f64; 3]> = (0..100).map(|k| [5.0 * k as f64, 250.0, 1.0]).collect();
+    let need = (stations.len() * active.len() * 4) as u64;
+    let r = DenseOperator::build(&mesh, &active, &stations, Survey::Gravity, need - 1, &Silent);
+    match r {
+        Err(OperatorError::TooBig { data, cells, .. }) => {
+            assert_eq!((data, cells), (100, active.len()))
+        }
+        Err(e) => panic!("wrong refusal: {e}"),
+        Ok(_) => panic!("a sensitivity above its budget was built"),
+    }
+}
+
+#[test]
+fn the_share_of_memory_one_allocation_may_take() {
+    let avail = 1_000_000_000u64;
+    let edge = (SHARE * avail as f64) as u64;
+    assert!(check("x", edge, avail, "").is_ok());
+    assert!(check("x", edge + 1, avail, "").is_err());
+}
