@@ -51,7 +51,14 @@ fn a_dense_sensitivity_too_big_for_its_budget_is_refused() {
     let active: Vec<usize> = (0..mesh.n_cells()).collect();
     let stations: Vec<[f64; 3]> = (0..100).map(|k| [5.0 * k as f64, 250.0, 1.0]).collect();
     let need = (stations.len() * active.len() * 4) as u64;
-    let r = DenseOperator::build(&mesh, &active, &stations, Survey::Gravity, need - 1, &Silent);
+    let r = DenseOperator::build(
+        &mesh,
+        &active,
+        &stations,
+        Survey::Gravity,
+        need - 1,
+        &Silent,
+    );
     match r {
         Err(OperatorError::TooBig { data, cells, .. }) => {
             assert_eq!((data, cells), (100, active.len()))

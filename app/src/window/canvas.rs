@@ -126,12 +126,72 @@ pub struct MapResponse {
     pub double_clicked: bool,
 }
 
+/// A white disc with a dark rim and soft edge, tinted per dot by the
+/// vertex colour (the rim stays dark).
+fn dot_image() -> ColorImage {
+    const N: usize = 32;
+    let mut img = ColorImage::new([N, N], vec![Color32::TRANSPARENT; N * N]);
+    let c = 0.5 * N as f32;
+    for j in 0..N {
+        for i in 0..N {
+            let d = ((i as f32 + 0.5 - c).hypot(j as f32 + 0.5 - c)) / c;
+            let alpha = ((1.0 - d) * N as f32 * 0.5).clamp(0.0, 1.0);
+            let grey = if d > 0.8 { 40 } else { 255 };
+            let a = (alpha * 255.0) as u8;
+            img.pixels[i + N * j] = Color32::from_rgba_premultiplied(
+                (grey as f32 * alpha) as u8,
+                (grey as f32 * alpha) as u8,
+                (grey as f32 * alpha) as u8,
+                a,
+            );
+        }
+    }
+    img
+}
+
+/// Dots of radius `r` points as one textured mesh, two triangles a dot.
+///
+/// Hundreds of stations drawn as separate anti-aliased circles took most of
+/// a frame under software rendering (every circle's fill and stroke
+/// tessellated, tens of triangles each); a quad per dot is a small fraction.
+pub fn dot_mesh(
+    texture: egui::TextureId,
+    dots: impl Iterator<Item = (Pos2, Color32)>,
+    r: f32,
+) -> egui::Mesh {
+    let mut mesh = egui::Mesh::with_texture(texture);
+    let uv = Rect::from_min_max(Pos2::ZERO, Pos2::new(1.0, 1.0));
+    for (c, col) in dots {
+        mesh.add_rect_with_uv(Rect::from_center_size(c, Vec2::splat(2.0 * r)), uv, col);
+    }
+    mesh
+}
+
+/// The top and left edges of `r`, `w` points wide and inside it, as two
+/// quads.
+fn edge_quads(mesh: &mut egui::Mesh, r: Rect, w: f32, col: Color32) {
+    let w = w.min(0.5 * r.width()).min(0.5 * r.height());
+    mesh.add_colored_rect(
+        Rect::from_min_max(r.min, Pos2::new(r.max.x, r.min.y + w)),
+        col,
+    );
+    mesh.add_colored_rect(
+        Rect::from_min_max(
+            Pos2::new(r.min.x, r.min.y + w),
+            Pos2::new(r.min.x + w, r.max.y),
+        ),
+        col,
+    );
+}
+
 /// Texture cache of grid images.
 #[derive(Default)]
 pub struct Textures {
     map: HashMap<String, TextureHandle>,
     /// Contour lines by grid key and interval, with the interval used.
     contours: HashMap<String, fieldstone_core::grid::contour::ContourSet>,
+    /// The station dot.
+    dot: Option<TextureHandle>,
 }
 
 fn grid_image(g: &Grid2, c: &Colouring, hillshade: bool) -> ColorImage {
@@ -336,16 +396,22 @@ pub fn map(
         }
         painter.add(egui::Shape::line(s, Stroke::new(2.0, *col)));
     }
-    for (p, v) in &layers.points {
+    let dots = layers.points.iter().filter_map(|(p, v)| {
         let col = match (v, &layers.point_colouring) {
             (Some(v), Some(c)) if v.is_finite() => c.colour(*v),
             _ => Color32::from_gray(60),
         };
         let q = frame.to_screen(rect, *p);
-        if rect.contains(q) {
-            painter.circle(q, 3.0, col, Stroke::new(0.5, Color32::from_gray(40)));
-        }
-    }
+        rect.contains(q).then_some((q, col))
+    });
+    let dot = textures
+        .dot
+        .get_or_insert_with(|| {
+            ui.ctx()
+                .load_texture("dot", dot_image(), TextureOptions::LINEAR)
+        })
+        .id();
+    painter.add(egui::Shape::mesh(dot_mesh(dot, dots, 3.6)));
     for p in &layers.highlight {
         painter.circle_stroke(
             frame.to_screen(rect, *p),
@@ -469,6 +535,7 @@ pub fn section(
     let half = |i: usize| spans[i];
     let mut hovered = None;
     let hp = resp.hover_pos();
+    let (mut cells, mut edges) = (egui::Mesh::default(), egui::Mesh::default());
     for s in samples {
         if !s.value.is_finite() {
             continue;
@@ -482,24 +549,40 @@ pub fn section(
             continue;
         }
         let r = Rect::from_two_pos(to(a, layer_tops[k]), to(b, layer_tops[k - 1]));
-        painter.rect_filled(r, 0.0, c.colour(s.value));
+        // One mesh of plain quads for all cells: per-cell anti-aliased
+        // rectangles and strokes cost most of a frame under software rendering.
+        cells.add_colored_rect(r, c.colour(s.value));
         if let Some(([c0, c1], zb)) = decor.core {
             if s.distance_m < c0 || s.distance_m > c1 || s.elevation_m < zb {
-                painter.rect_filled(r, 0.0, Color32::from_white_alpha(110));
+                cells.add_colored_rect(r, Color32::from_white_alpha(110));
             }
         }
         if decor.cell_edges {
-            painter.rect_stroke(
-                r,
-                0.0,
-                Stroke::new(0.5, Color32::from_black_alpha(90)),
-                egui::StrokeKind::Inside,
-            );
+            // Top and left edges of every cell draw each shared edge once;
+            // the bottom and right of the whole section come after the loop.
+            edge_quads(&mut edges, r, 0.5, Color32::from_black_alpha(90));
         }
         if hp.is_some_and(|h| r.contains(h)) {
             hovered = Some((s.distance_m, s.elevation_m, s.value));
         }
     }
+    if decor.cell_edges && !cells.is_empty() {
+        let b = cells
+            .vertices
+            .iter()
+            .fold(Rect::NOTHING, |r, v| r.union(Rect::from_pos(v.pos)));
+        let col = Color32::from_black_alpha(90);
+        edges.add_colored_rect(
+            Rect::from_min_max(Pos2::new(b.min.x, b.max.y - 0.5), b.max),
+            col,
+        );
+        edges.add_colored_rect(
+            Rect::from_min_max(Pos2::new(b.max.x - 0.5, b.min.y), b.max),
+            col,
+        );
+    }
+    painter.add(egui::Shape::mesh(cells));
+    painter.add(egui::Shape::mesh(edges));
     if decor.cell_edges {
         if let Some(([c0, c1], zb)) = decor.core {
             let r = Rect::from_two_pos(to(c0, zmax), to(c1, zb));
