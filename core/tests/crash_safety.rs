@@ -1,7 +1,9 @@
 //! A project survives a save that is killed or fails midway: it always opens
 //! as either the old or the new version, never broken.
 
-use fieldstone_core::io::atomic::{write_atomically, WriteError};
+use fieldstone_core::io::atomic::{
+    write_atomically, write_atomically_with_faults, Stage, WriteError,
+};
 use fieldstone_core::project::file::{ProjectFile, Scenario, PROJECT_FILE};
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -102,6 +104,50 @@ fn a_write_failing_at_any_byte_leaves_the_previous_project() {
             1,
             "a temporary file was left after {k} bytes"
         );
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn disk_full_or_permission_denied_at_every_stage_of_a_save_keeps_the_previous_project() {
+    let dir = scratch("stages");
+    big_project(1).save(&dir).unwrap();
+    let new_text = serde_json::to_string_pretty(&big_project(2)).unwrap();
+    let dest = dir.join(PROJECT_FILE);
+    for stage in [
+        Stage::CreateTemporary,
+        Stage::Flush,
+        Stage::Sync,
+        Stage::Rename,
+    ] {
+        for kind in [
+            std::io::ErrorKind::StorageFull,
+            std::io::ErrorKind::PermissionDenied,
+        ] {
+            let r: Result<(), WriteError> = write_atomically_with_faults(
+                &dest,
+                |w| {
+                    w.write_all(new_text.as_bytes())
+                        .map_err(|source| WriteError {
+                            path: dest.clone(),
+                            source,
+                        })
+                },
+                |s| (s == stage).then(|| std::io::Error::from(kind)),
+            );
+            let e = r.expect_err("the injected failure was not reported");
+            let msg = e.to_string();
+            assert!(
+                msg.contains(PROJECT_FILE) && msg.contains(&std::io::Error::from(kind).to_string()),
+                "{stage:?} {kind:?}: {msg}"
+            );
+            assert_eq!(check_opens(&dir), "generation 1", "{stage:?} {kind:?}");
+            assert_eq!(
+                std::fs::read_dir(&dir).unwrap().count(),
+                1,
+                "{stage:?} {kind:?}: a temporary file was left"
+            );
+        }
     }
     std::fs::remove_dir_all(&dir).ok();
 }

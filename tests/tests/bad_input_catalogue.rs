@@ -17,7 +17,11 @@ use fieldstone_core::table::{Delimiter, TextOptions};
 use std::path::{Path, PathBuf};
 
 fn scratch(case: &str) -> PathBuf {
-    let d = std::env::temp_dir().join(format!("fieldstone-bad-{case}-{}", std::process::id()));
+    // Tests run in parallel and several share a case name: a counter keeps
+    // their folders apart.
+    static NEXT: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    let n = NEXT.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+    let d = std::env::temp_dir().join(format!("fieldstone-bad-{case}-{}-{n}", std::process::id()));
     let _ = std::fs::remove_dir_all(&d);
     std::fs::create_dir_all(&d).unwrap();
     d
@@ -462,6 +466,18 @@ fn geotiff_a_text_file_named_tif() {
         "terrain.tif",
         &["not a readable TIFF"],
     );
+}
+
+/// Found by the `geotiff` fuzz target: a SampleFormat tag with no values made
+/// the TIFF decoder index an empty list and panic.
+#[test]
+fn geotiff_empty_sample_format_tag() {
+    let b = std::fs::read(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/fixtures/geotiff/fuzz_crash_empty_sample_format.tif"
+    ))
+    .unwrap();
+    names(&tiff_err("fuzz", &b), "terrain.tif", &["damaged"]);
 }
 
 #[test]

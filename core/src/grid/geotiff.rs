@@ -75,7 +75,30 @@ pub fn read_geotiff_bytes(bytes: &[u8], path: &Path) -> Result<Grid2, GeoTiffErr
     decode_geotiff(std::io::Cursor::new(bytes), path)
 }
 
+/// Decodes, turning a panic inside the TIFF decoder into an error: the
+/// `tiff` crate (0.10.3) indexes an empty SampleFormat tag (found by the
+/// `geotiff` fuzz target), and a damaged file must not end the program.
 fn decode_geotiff<R: std::io::Read + std::io::Seek>(
+    f: R,
+    path: &Path,
+) -> Result<Grid2, GeoTiffError> {
+    std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| decode_unguarded(f, path)))
+        .unwrap_or_else(|panic| {
+            let why = panic
+                .downcast_ref::<String>()
+                .map(String::as_str)
+                .or_else(|| panic.downcast_ref::<&str>().copied())
+                .unwrap_or("unknown");
+            Err(GeoTiffError::Decode {
+                file: path.to_path_buf(),
+                message: format!(
+                    "the file is damaged in a way the TIFF decoder could not handle ({why})"
+                ),
+            })
+        })
+}
+
+fn decode_unguarded<R: std::io::Read + std::io::Seek>(
     f: R,
     path: &Path,
 ) -> Result<Grid2, GeoTiffError> {

@@ -48,6 +48,8 @@ impl Default for MinCurvSettings {
 
 #[derive(Debug, Error, PartialEq)]
 pub enum GriddingError {
+    #[error(transparent)]
+    Memory(#[from] crate::memory::MemoryError),
     #[error("gridding needs at least 3 data with finite coordinates and values; {0} have them")]
     TooFew(usize),
     #[error("the data lie on a line (or at one point), so no surface can be fitted to them")]
@@ -95,6 +97,13 @@ pub fn fit_plane(
 
 /// Grids scattered data (x, y, value) onto `template` (its origin, cell and
 /// size; the cell must be square). Returns the filled grid, unblanked.
+/// Bytes minimum curvature holds for `points` data and `nodes` grid nodes:
+/// per point its index, coordinates, value, residual and bin entry (48
+/// bytes); per node the grid levels, masks and the output (64 bytes).
+pub fn memory_needed(points: usize, nodes: usize) -> u64 {
+    points as u64 * 48 + nodes as u64 * 64
+}
+
 pub fn min_curvature(
     x: &[f64],
     y: &[f64],
@@ -106,6 +115,16 @@ pub fn min_curvature(
     if !(0.0..=1.0).contains(&s.tension) || !s.tension.is_finite() {
         return Err(GriddingError::Tension(s.tension));
     }
+    crate::memory::check_now(
+        &format!(
+            "gridding {} points onto {} × {} nodes",
+            x.len(),
+            template.nx,
+            template.ny
+        ),
+        memory_needed(x.len(), template.nx * template.ny),
+        "use a coarser cell, or thin the readings along the lines first",
+    )?;
     let keep: Vec<usize> = (0..x.len())
         .filter(|&k| x[k].is_finite() && y[k].is_finite() && v[k].is_finite())
         .collect();

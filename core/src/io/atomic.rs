@@ -44,18 +44,46 @@ pub fn write_atomically<E>(
 where
     E: From<WriteError>,
 {
+    write_atomically_with_faults(dest, fill, |_| None)
+}
+
+/// The points of a save where the file system can fail.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Stage {
+    CreateTemporary,
+    Flush,
+    Sync,
+    Rename,
+}
+
+/// [`write_atomically`] with `fault` asked at each [`Stage`]; an error it
+/// returns is taken as the file system's (tests of disk full and permission
+/// denied at every point of a save).
+pub fn write_atomically_with_faults<E>(
+    dest: &Path,
+    fill: impl FnOnce(&mut dyn Write) -> Result<(), E>,
+    fault: impl Fn(Stage) -> Option<io::Error>,
+) -> Result<(), E>
+where
+    E: From<WriteError>,
+{
     let tmp = temp_path_for(dest);
     let wrap = |source: io::Error| WriteError {
         path: dest.to_path_buf(),
         source,
     };
+    let at = |stage: Stage| fault(stage).map_or(Ok(()), |e| Err(wrap(e)));
     let result = (|| {
+        at(Stage::CreateTemporary)?;
         let file = File::create(&tmp).map_err(wrap)?;
         let mut w = BufWriter::new(file);
         fill(&mut w)?;
+        at(Stage::Flush)?;
         let file = w.into_inner().map_err(|e| wrap(e.into_error()))?;
+        at(Stage::Sync)?;
         file.sync_all().map_err(wrap)?;
         drop(file);
+        at(Stage::Rename)?;
         fs::rename(&tmp, dest).map_err(wrap)?;
         Ok(())
     })();

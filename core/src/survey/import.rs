@@ -110,6 +110,11 @@ pub enum ImportError {
     },
     #[error("{file}: {message}")]
     Crs { file: PathBuf, message: String },
+    #[error("{file}: {source}")]
+    Memory {
+        file: PathBuf,
+        source: crate::memory::MemoryError,
+    },
     #[error("{file}: line {line}, column '{column}': {message}")]
     Value {
         file: PathBuf,
@@ -177,6 +182,27 @@ fn check_not_swapped(
         )),
         _ => Ok(()),
     }
+}
+
+/// Bytes an import of `path` holds at its peak, from the file size and the
+/// line length in its first part (`head`): the table's columns (8 bytes a
+/// number, about 40 a short text, 8 for the line number) and the survey's
+/// coordinates, latitudes and longitudes (32 bytes a row).
+pub fn import_memory_needed(path: &Path, head: &[u8], kinds: &[ColumnKind]) -> u64 {
+    let size = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
+    let lines = head.iter().filter(|&&b| b == b'\n').count().max(1) as u64;
+    let rows = if (head.len() as u64) >= size {
+        lines
+    } else {
+        size * lines / head.len().max(1) as u64 + 16
+    };
+    let per_row: u64 = 8
+        + 32
+        + kinds
+            .iter()
+            .map(|k| if *k == ColumnKind::Number { 8 } else { 40 })
+            .sum::<u64>();
+    rows * per_row
 }
 
 fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
@@ -289,6 +315,16 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
             _ => ColumnKind::Text,
         })
         .collect();
+    let need = import_memory_needed(path, &head, &kinds);
+    crate::memory::check_now(
+        "importing this file",
+        need,
+        "split the file by lines or flights, or give unneeded columns the role 'ignore'",
+    )
+    .map_err(|source| ImportError::Memory {
+        file: file.clone(),
+        source,
+    })?;
     let table = read_table(path, &spec.text, Some(&kinds))?;
     let n = table.n_rows();
     let mut warnings = Vec::new();
