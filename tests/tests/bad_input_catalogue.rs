@@ -495,6 +495,25 @@ fn geotiff_every_byte_flipped_somewhere_never_panics() {
     }
 }
 
+// --------------------------------------------------------------- XYZ grids
+
+/// Found by the `xyz_grid` fuzz target: a coordinate of about 2 × 10³⁰ made
+/// the node count wrap around to zero and the reader index an empty grid.
+#[test]
+fn xyz_grid_huge_coordinate() {
+    let b = std::fs::read(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/fixtures/fuzz_crash_xyz_huge_coordinate.xyz"
+    ))
+    .unwrap();
+    let d = scratch("xyz-huge");
+    let p = put(&d, "grid.xyz", &b);
+    let e = fieldstone_core::grid::xyz::read_xyz(&p, &TextOptions::default())
+        .expect_err("a grid of 10³⁰ nodes was accepted")
+        .to_string();
+    names(&e, "grid.xyz", &["larger than"]);
+}
+
 // -------------------------------------------------------------- wireframes
 
 const CUBE_OBJ: &str = "v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nv 0 0 1\nv 1 0 1\nv 1 1 1\nv 0 1 1\nf 1 3 2\nf 1 4 3\nf 5 6 7\nf 5 7 8\nf 1 2 6\nf 1 6 5\nf 2 3 7\nf 2 7 6\nf 3 4 8\nf 3 8 7\nf 4 1 5\nf 4 5 8\n";

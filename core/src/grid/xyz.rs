@@ -100,8 +100,18 @@ fn xyz_from_table(t: crate::table::Table, path: &Path) -> Result<Grid2, XyzError
         .copied()
         .filter(|a| a.is_finite())
         .fold(f64::NEG_INFINITY, f64::max);
-    let nx = ((xmax - x0) / dx).round() as usize + 1;
-    let ny = ((ymax - y0) / dy).round() as usize + 1;
+    // Node counts as floats first: a stray huge coordinate must become a
+    // "too big" refusal, not a count that wraps around (found by the
+    // xyz_grid fuzz target).
+    let count = |span: f64, d: f64| {
+        let n = (span / d).round() + 1.0;
+        if n.is_finite() && n < 1e12 {
+            n as usize
+        } else {
+            usize::MAX / 4
+        }
+    };
+    let (nx, ny) = (count(xmax - x0, dx), count(ymax - y0, dy));
     let mut g = Grid2::new_empty(x0, y0, dx, dy, nx, ny).map_err(|source| XyzError::Size {
         file: file.clone(),
         source,
