@@ -167,21 +167,23 @@ pub fn dot_mesh(
     mesh
 }
 
-/// The top and left edges of `r`, `w` points wide and inside it, as two
-/// quads.
-fn edge_quads(mesh: &mut egui::Mesh, r: Rect, w: f32, col: Color32) {
+/// The top edge of `r` and, with `left`, its left edge, `w` points wide and
+/// inside it, as quads.
+fn edge_quads(mesh: &mut egui::Mesh, r: Rect, w: f32, left: bool, col: Color32) {
     let w = w.min(0.5 * r.width()).min(0.5 * r.height());
     mesh.add_colored_rect(
         Rect::from_min_max(r.min, Pos2::new(r.max.x, r.min.y + w)),
         col,
     );
-    mesh.add_colored_rect(
-        Rect::from_min_max(
-            Pos2::new(r.min.x, r.min.y + w),
-            Pos2::new(r.min.x + w, r.max.y),
-        ),
-        col,
-    );
+    if left {
+        mesh.add_colored_rect(
+            Rect::from_min_max(
+                Pos2::new(r.min.x, r.min.y + w),
+                Pos2::new(r.min.x + w, r.max.y),
+            ),
+            col,
+        );
+    }
 }
 
 /// Texture cache of grid images.
@@ -493,6 +495,10 @@ pub struct SectionDecor {
     /// Drill holes projected onto the section with their logged values.
     pub holes: Vec<fieldstone_core::export::figure::ProjectedHole>,
     pub log_label: String,
+    /// The mesh's x and y node positions: vertical cell edges are drawn only
+    /// where the line enters another mesh column (samples are closer than
+    /// the wide padding cells).
+    pub columns: Option<(Vec<f64>, Vec<f64>)>,
 }
 
 /// Shows a section (distance × elevation) in the remaining space; returns the
@@ -548,6 +554,26 @@ pub fn section(
     let mut hovered = None;
     let hp = resp.hover_pos();
     let (mut cells, mut edges) = (egui::Mesh::default(), egui::Mesh::default());
+    // Whether the samples at each distance start a new mesh column.
+    let mut new_column = vec![true; dists.len()];
+    if let Some((xs, ys)) = &decor.columns {
+        let column = |x: f64, y: f64| {
+            (
+                xs.partition_point(|v| *v <= x),
+                ys.partition_point(|v| *v <= y),
+            )
+        };
+        let mut at: Vec<Option<(usize, usize)>> = vec![None; dists.len()];
+        for s in samples {
+            let i = dists
+                .partition_point(|d| *d < s.distance_m)
+                .min(dists.len() - 1);
+            at[i].get_or_insert(column(s.x, s.y));
+        }
+        for i in 1..dists.len() {
+            new_column[i] = at[i] != at[i - 1];
+        }
+    }
     for s in samples {
         if !s.value.is_finite() {
             continue;
@@ -563,16 +589,25 @@ pub fn section(
         let r = Rect::from_two_pos(to(a, layer_tops[k]), to(b, layer_tops[k - 1]));
         // One mesh of plain quads for all cells: per-cell anti-aliased
         // rectangles and strokes cost most of a frame under software rendering.
-        cells.add_colored_rect(r, c.colour(s.value));
+        let mut col = c.colour(s.value);
         if let Some(([c0, c1], zb)) = decor.core {
             if s.distance_m < c0 || s.distance_m > c1 || s.elevation_m < zb {
-                cells.add_colored_rect(r, Color32::from_white_alpha(110));
+                // Padding: the colour mixed 43 % toward white, in one quad.
+                let pale = |v: u8| v + ((255 - v) as u16 * 110 / 255) as u8;
+                col = Color32::from_rgb(pale(col.r()), pale(col.g()), pale(col.b()));
             }
         }
+        cells.add_colored_rect(r, col);
         if decor.cell_edges {
             // Top and left edges of every cell draw each shared edge once;
             // the bottom and right of the whole section come after the loop.
-            edge_quads(&mut edges, r, 0.5, Color32::from_black_alpha(90));
+            edge_quads(
+                &mut edges,
+                r,
+                1.0,
+                new_column[i],
+                Color32::from_black_alpha(55),
+            );
         }
         if hp.is_some_and(|h| r.contains(h)) {
             hovered = Some((s.distance_m, s.elevation_m, s.value));
@@ -583,13 +618,13 @@ pub fn section(
             .vertices
             .iter()
             .fold(Rect::NOTHING, |r, v| r.union(Rect::from_pos(v.pos)));
-        let col = Color32::from_black_alpha(90);
+        let col = Color32::from_black_alpha(55);
         edges.add_colored_rect(
-            Rect::from_min_max(Pos2::new(b.min.x, b.max.y - 0.5), b.max),
+            Rect::from_min_max(Pos2::new(b.min.x, b.max.y - 1.0), b.max),
             col,
         );
         edges.add_colored_rect(
-            Rect::from_min_max(Pos2::new(b.max.x - 0.5, b.min.y), b.max),
+            Rect::from_min_max(Pos2::new(b.max.x - 1.0, b.min.y), b.max),
             col,
         );
     }

@@ -605,6 +605,7 @@ fn section_decor(
     let Some(m) = d.views.model.as_ref() else {
         return decor;
     };
+    decor.columns = Some((m.mesh.x.clone(), m.mesh.y.clone()));
     let mesh = &m.mesh;
     let [(i0, i1), (j0, j1), (k0, _)] = mesh.core;
     // The core along the line: where the line runs inside the core's box.
