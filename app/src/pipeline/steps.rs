@@ -23,7 +23,8 @@ use fieldstone_core::grid::geotiff::{read_geotiff, write_geotiff};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::solver::{invert, Problem, RunResult};
 use fieldstone_core::io::atomic::write_bytes_atomically;
-use fieldstone_core::mesh::size::{available_memory_bytes, estimate, ASSUMED_MEMORY_BYTES};
+use fieldstone_core::memory::available_or_assumed;
+use fieldstone_core::mesh::size::estimate;
 use fieldstone_core::mesh::topo::{active_cells, ActiveCells};
 use fieldstone_core::mesh::TensorMesh;
 use fieldstone_core::operator::dense::{DenseOperator, Survey};
@@ -521,7 +522,7 @@ fn mesh_step(dir: &Path, p: &ProjectFile, ctx: &mut Context) -> Result<String, S
         m.mesh.n_cells(),
         m.active.count(),
         n_data,
-        available_memory_bytes(),
+        Some(available_or_assumed()),
     );
     let pv = prov(p, "mesh recipe of project.json", "m");
     let mut desc =
@@ -735,7 +736,7 @@ fn choose_operator(
     n_data: usize,
 ) -> Result<OperatorChoice, String> {
     let n_act = m.active.count();
-    let avail = available_memory_bytes().unwrap_or(ASSUMED_MEMORY_BYTES);
+    let avail = available_or_assumed();
     let dense_fits = (n_data as u64 * n_act as u64 * 4) <= avail / 2;
     Ok(match s.operator {
         OperatorChoice::Automatic if dense_fits => OperatorChoice::Dense,
@@ -817,7 +818,7 @@ fn inversion(
             )
         }
         _ => {
-            let avail = available_memory_bytes().unwrap_or(ASSUMED_MEMORY_BYTES);
+            let avail = available_or_assumed();
             obs.message(&format!(
                 "  dense operator: {} data × {} cells = {:.0} MB",
                 pts.value.len(),

@@ -10,7 +10,7 @@ use fieldstone_core::filter::regional::RegionalMethod;
 use fieldstone_core::filter::trend::TrendSettings;
 use fieldstone_core::invert::{InversionSettings, Weighting};
 use fieldstone_core::mesh::recipe::Padding;
-use fieldstone_core::mesh::size::{available_memory_bytes, estimate};
+use fieldstone_core::mesh::size::estimate;
 use fieldstone_core::project::file::{
     DataKind, GravityInput, MagneticInput, ProjectFile, Scenario,
 };
@@ -747,7 +747,7 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
                 n,
                 (n as f64 * active_guess) as usize,
                 n_data,
-                available_memory_bytes(),
+                Some(fieldstone_core::memory::available_or_assumed()),
             );
             ui.label(format!(
                 "{a} × {b} × {c} = {n} cells (about {} active)",

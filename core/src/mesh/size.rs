@@ -18,9 +18,6 @@ pub struct SizeEstimate {
     pub advice: Vec<String>,
 }
 
-pub use crate::memory::available_bytes as available_memory_bytes;
-pub use crate::memory::ASSUMED_BYTES as ASSUMED_MEMORY_BYTES;
-
 /// Estimates the cost of a dense-sensitivity inversion; refuses (fits = false)
 /// above 80 % of the available memory.
 pub fn estimate(
@@ -31,7 +28,8 @@ pub fn estimate(
 ) -> SizeEstimate {
     let dense = data as u64 * active_cells as u64 * 4;
     let model = active_cells as u64 * 12 * 8;
-    let limit = (available.unwrap_or(ASSUMED_MEMORY_BYTES) as f64 * 0.8) as u64;
+    let limit =
+        (available.unwrap_or(crate::memory::ASSUMED_BYTES) as f64 * crate::memory::SHARE) as u64;
     let fits = dense + model <= limit;
     let mut advice = Vec::new();
     if !fits {
@@ -82,7 +80,7 @@ mod tests {
     #[test]
     fn available_memory_is_read_on_linux() {
         if cfg!(target_os = "linux") {
-            assert!(available_memory_bytes().is_some_and(|b| b > 0));
+            assert!(crate::memory::available_bytes().is_some_and(|b| b > 0));
         }
     }
 }

@@ -185,9 +185,9 @@ fn check_not_swapped(
 }
 
 /// Bytes an import of `path` holds at its peak, from the file size and the
-/// line length in its first part (`head`): the table's columns (8 bytes a
-/// number, about 40 a short text, 8 for the line number) and the survey's
-/// coordinates, latitudes and longitudes (32 bytes a row).
+/// line length in its first part (`head`): the table's columns
+/// ([`crate::table::read::bytes_per_row`]) and the survey's coordinates,
+/// latitudes and longitudes (32 bytes a row).
 pub fn import_memory_needed(path: &Path, head: &[u8], kinds: &[ColumnKind]) -> u64 {
     let size = std::fs::metadata(path).map(|m| m.len()).unwrap_or(0);
     let lines = head.iter().filter(|&&b| b == b'\n').count().max(1) as u64;
@@ -196,13 +196,7 @@ pub fn import_memory_needed(path: &Path, head: &[u8], kinds: &[ColumnKind]) -> u
     } else {
         size * lines / head.len().max(1) as u64 + 16
     };
-    let per_row: u64 = 8
-        + 32
-        + kinds
-            .iter()
-            .map(|k| if *k == ColumnKind::Number { 8 } else { 40 })
-            .sum::<u64>();
-    rows * per_row
+    rows * (crate::table::read::bytes_per_row(kinds) + 32)
 }
 
 fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {

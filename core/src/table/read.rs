@@ -9,6 +9,15 @@ use std::path::Path;
 /// Bytes read ahead for detection.
 const HEAD_BYTES: usize = 256 * 1024;
 
+/// Bytes a row of a read table holds: 8 a number, about 40 a short text (its
+/// heap block and the String), 8 for the line number.
+pub fn bytes_per_row(kinds: &[ColumnKind]) -> u64 {
+    8 + kinds
+        .iter()
+        .map(|k| if *k == ColumnKind::Number { 8 } else { 40 })
+        .sum::<u64>()
+}
+
 /// Reads a whole table from a file. `kinds` overrides the detected column
 /// kinds (one per column).
 pub fn read_table(
@@ -71,13 +80,7 @@ fn read_from(
     } else {
         (size_hint as f64 / head.len().max(1) as f64 * head_lines as f64) as usize + 16
     };
-    // What the columns will hold: 8 bytes a number, about 40 a short text
-    // (its heap block and the String), 8 for the line number.
-    let per_row: u64 = 8 + kinds
-        .iter()
-        .map(|k| if *k == ColumnKind::Number { 8 } else { 40 })
-        .sum::<u64>();
-    let need = per_row * est_rows as u64;
+    let need = bytes_per_row(&kinds) * est_rows as u64;
     if need > 64 << 20 {
         crate::memory::check_now(
             &format!("reading about {est_rows} rows of {n_cols} columns"),
