@@ -9,6 +9,7 @@
 //!   conjugate gradients on the free cells; Kelley 1999), the β schedule, IRLS,
 //!   and the run record.
 
+pub mod appraise;
 pub mod objective;
 pub mod solver;
 

@@ -241,30 +241,15 @@ fn power_iteration(n: usize, mut apply: impl FnMut(&[f64], &mut [f64])) -> f64 {
     lambda
 }
 
-/// Runs an inversion.
-pub fn invert<O: Operator>(
+/// The model objective of a problem under `s` (least-squares form, IRLS
+/// weights 1) and the lower and upper bounds per operator column (fixed
+/// cells get both bounds at their starting value).
+pub fn model_objective<O: Operator>(
     op: &O,
     pb: &Problem,
     s: &InversionSettings,
-    obs: &dyn Observer,
-) -> Result<RunResult, InversionError> {
-    let start = Instant::now();
+) -> Result<(ModelObjective, Vec<f64>, Vec<f64>), InversionError> {
     let n = op.n_cells();
-    let nd = op.n_data();
-    if pb.active.len() != n || pb.data.len() != nd || pb.uncertainty.len() != nd {
-        return Err(InversionError::Setup(format!("sizes disagree: {n} operator columns, {} active cells, {nd} operator rows, {} data, {} uncertainties", pb.active.len(), pb.data.len(), pb.uncertainty.len())));
-    }
-    for (index, &v) in pb.uncertainty.iter().enumerate() {
-        if !(v.is_finite() && v > 0.0) {
-            return Err(InversionError::Uncertainty { index, value: v });
-        }
-    }
-    if let Some(index) = pb.data.iter().position(|d| !d.is_finite()) {
-        return Err(InversionError::Data { index });
-    }
-    if !(s.beta0_ratio > 0.0 && s.cooling > 1.0 && s.chi_factor > 0.0) {
-        return Err(InversionError::Setup(format!("β settings must be positive with cooling above 1 (β₀ ratio {}, cooling {}, chi-factor {})", s.beta0_ratio, s.cooling, s.chi_factor)));
-    }
     let c = pb.constraints;
     let mesh = pb.mesh;
     let [nx, ny, _] = mesh.shape();
@@ -366,6 +351,34 @@ pub fn invert<O: Operator>(
         r_s: vec![1.0; n],
         r_f: vec![1.0; nf],
     };
+    Ok((obj, lower, upper))
+}
+
+/// Runs an inversion.
+pub fn invert<O: Operator>(
+    op: &O,
+    pb: &Problem,
+    s: &InversionSettings,
+    obs: &dyn Observer,
+) -> Result<RunResult, InversionError> {
+    let start = Instant::now();
+    let n = op.n_cells();
+    let nd = op.n_data();
+    if pb.active.len() != n || pb.data.len() != nd || pb.uncertainty.len() != nd {
+        return Err(InversionError::Setup(format!("sizes disagree: {n} operator columns, {} active cells, {nd} operator rows, {} data, {} uncertainties", pb.active.len(), pb.data.len(), pb.uncertainty.len())));
+    }
+    for (index, &v) in pb.uncertainty.iter().enumerate() {
+        if !(v.is_finite() && v > 0.0) {
+            return Err(InversionError::Uncertainty { index, value: v });
+        }
+    }
+    if let Some(index) = pb.data.iter().position(|d| !d.is_finite()) {
+        return Err(InversionError::Data { index });
+    }
+    if !(s.beta0_ratio > 0.0 && s.cooling > 1.0 && s.chi_factor > 0.0) {
+        return Err(InversionError::Setup(format!("β settings must be positive with cooling above 1 (β₀ ratio {}, cooling {}, chi-factor {})", s.beta0_ratio, s.cooling, s.chi_factor)));
+    }
+    let (obj, lower, upper) = model_objective(op, pb, s)?;
     // diag(Gᵀ W_d² G) = Σᵢ wᵢ Gᵢⱼ²; exact for uniform uncertainties, the mean
     // weight otherwise (it only preconditions).
     let mean_wd2 = pb.uncertainty.iter().map(|u| 1.0 / (u * u)).sum::<f64>() / nd as f64;
@@ -386,7 +399,6 @@ pub fn invert<O: Operator>(
     let target = s.chi_factor * nd as f64;
     // β₀ from the largest eigenvalues of the two terms.
     let mut tmp = vec![0.0; nd];
-    let all_free = vec![true; n];
     let lam_d = power_iteration(n, |v, out| {
         op.apply(v, &mut tmp);
         for (t, w) in tmp.iter_mut().zip(&setup.wd2) {
@@ -398,9 +410,12 @@ pub fn invert<O: Operator>(
         out.iter_mut().for_each(|o| *o = 0.0);
         setup.obj.add_hessian(v, 1.0, out);
     });
-    let _ = &all_free;
     let mut beta = s.beta0_ratio * lam_d / lam_m.max(1e-300);
-    let mut m: Vec<f64> = pb.active.iter().map(|&k| c.starting[k]).collect();
+    let mut m: Vec<f64> = pb
+        .active
+        .iter()
+        .map(|&k| pb.constraints.starting[k])
+        .collect();
     setup.project(&mut m);
     let mut log = Vec::new();
     let mut pred = vec![0.0; nd];
