@@ -68,13 +68,7 @@ pub fn depth_of_investigation<O: Operator>(
             "the reference shift for the depth-of-investigation index must be a non-zero number (got {shift})"
         )));
     }
-    if base.model.len() != pb.active.len() {
-        return Err(InversionError::Setup(format!(
-            "the first run has {} cells, the problem {}",
-            base.model.len(),
-            pb.active.len()
-        )));
-    }
+    same_cells(pb, base)?;
     let c = pb.constraints;
     let mut k: ConstraintArrays = c.clone();
     let mut outside = 0;
@@ -138,6 +132,18 @@ pub fn depth_of_investigation<O: Operator>(
         shifted_outside_bounds: outside,
         data_level_shift: level,
     })
+}
+
+/// The first run must be of the same active cells as the problem.
+fn same_cells(pb: &Problem, base: &RunResult) -> Result<(), InversionError> {
+    if base.model.len() == pb.active.len() {
+        return Ok(());
+    }
+    Err(InversionError::Setup(format!(
+        "the first run has {} cells, the problem {}",
+        base.model.len(),
+        pb.active.len()
+    )))
 }
 
 /// Layer medians of an index over the active cells (`values` per operator
@@ -243,13 +249,7 @@ pub fn feature_test<O: Operator>(
             c.active.len()
         )));
     }
-    if base.model.len() != pb.active.len() {
-        return Err(InversionError::Setup(format!(
-            "the first run has {} cells, the problem {}",
-            base.model.len(),
-            pb.active.len()
-        )));
-    }
+    same_cells(pb, base)?;
     if let Hold::Referenced { weight } = hold {
         if !(weight.is_finite() && weight > 0.0) {
             return Err(InversionError::Setup(format!(
