@@ -134,6 +134,37 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
     );
     assert!(informed.body_cells > 100);
 
+    // The smooth scenario is appraised: a depth-of-investigation index from
+    // a second run with the reference shifted ±0.1 g/cm³ in blocks (which
+    // also fits the data), on every active cell and nowhere else; and
+    // holding the geologist's intrusive at the background costs model
+    // structure elsewhere (φ_m grows), so the feature is not "not required".
+    let a: fieldstone::pipeline::appraisal::AppraisalFile = serde_json::from_str(
+        &std::fs::read_to_string(dir.join("runs/smooth/appraisal.json")).unwrap(),
+    )
+    .unwrap();
+    let doi = a.doi.as_ref().expect("a depth-of-investigation index");
+    assert!(doi.profile.layers.len() > 5 && doi.free_cells > 1000);
+    assert!(doi.block_m.is_some_and(|b| b > 0.0));
+    assert!(doi.data_level_shift.abs() < 0.05, "{doi:?}");
+    assert!((doi.chi_factor_shifted - 1.0).abs() <= 0.05, "{doi:?}");
+    let index =
+        fieldstone::pipeline::load_run_array(&dir, "smooth", "doi.npy", m.mesh.n_cells()).unwrap();
+    for (k, v) in index.iter().enumerate() {
+        assert_eq!(v.is_finite(), m.active.active[k], "cell {k}: {v}");
+    }
+    let t = &a.feature_tests[0];
+    assert_eq!(t.name, "intrusive");
+    assert!(t.report.region_cells > 20, "{:?}", t.report);
+    assert!(
+        t.report.verdict != "not required" && t.report.phi_m_held > t.report.phi_m_base,
+        "{:?}",
+        t.report
+    );
+    assert!(dir.join("runs/smooth/held_intrusive.npy").exists());
+    assert!(dir.join("runs/smooth/doi.vtr").exists());
+    assert!(a.caution.contains("non-unique"));
+
     // A second run does no work.
     let log = run(&["--all-scenarios"], &dir);
     assert!(log.contains("run: 0 steps ran"), "{log}");
@@ -428,5 +459,50 @@ fn run_refuses_bad_projects_with_a_message() {
     let o = bin().arg("run").arg(&dir).output().unwrap();
     let e = String::from_utf8_lossy(&o.stderr);
     assert!(e.contains("leaves the project folder"), "{e}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// The FFT operator through the pipeline on the small demo with uniform
+/// padding: data level at the highest station, and draped on the terrain
+/// with kernels expanded in height. Both fit the data; each run records how
+/// far the FFT rows are from exact rows at the data's own heights, and the
+/// draped rows are the closer.
+#[test]
+fn fft_runs_report_their_row_error_and_draping_reduces_it() {
+    use fieldstone_core::mesh::recipe::Padding;
+    use fieldstone_core::project::file::{FftHeights, OperatorChoice};
+    let dir = scratch("fft");
+    let o = bin().args(["demo", "--small"]).arg(&dir).output().unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let mut p = ProjectFile::load(&dir).unwrap().project;
+    if let Some(r) = p.mesh.as_mut() {
+        r.padding = Padding::Uniform { cells: 4 };
+    }
+    let mut level = p.scenarios[0].clone();
+    level.name = "fft_level".into();
+    level.operator = OperatorChoice::Fft;
+    level.appraisal = None;
+    let mut draped = level.clone();
+    draped.name = "fft_draped".into();
+    draped.fft_heights = FftHeights::Draped { order: 4 };
+    p.scenarios = vec![level, draped];
+    p.save(&dir).unwrap();
+    let log = run(&["--all-scenarios"], &dir);
+    assert!(log.contains("FFT rows against exact rows"), "{log}");
+    let (l, d) = (summary(&dir, "fft_level"), summary(&dir, "fft_draped"));
+    for r in [&l, &d] {
+        assert_eq!(r.summary.operator, "fft");
+        assert!(
+            (r.summary.chi_factor - 1.0).abs() <= 0.05,
+            "{:?}",
+            r.summary
+        );
+    }
+    let (cl, cd) = (l.operator_check.unwrap(), d.operator_check.unwrap());
+    assert!(cl.rows_checked >= 20 && cd.rows_checked == cl.rows_checked);
+    assert!(
+        cd.median_relative_error < 0.5 * cl.median_relative_error,
+        "draped {cd:?} vs level {cl:?}"
+    );
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -217,6 +217,22 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
         "{}",
         dec.info().height
     );
+    // The run was appraised: the depth-of-investigation index shows as a
+    // plan slice with its layer profile, and the feature test's verdict is
+    // listed in the form.
+    h.get_by_label("Depth of investigation").click();
+    h.run_steps(3);
+    assert_eq!(h.state().views.result_view, 5);
+    let run = &h.state().doc.as_ref().unwrap().views.runs["smooth"];
+    assert!(run.doi.is_some() && run.appraisal.is_some());
+    assert!(h.query_by_label("Is this feature required?").is_some());
+    assert!(h.query_by_label_contains("layer medians").is_some());
+    // The Runs form shows the appraisal settings of the scenario.
+    step(&mut h, "Runs");
+    assert!(h
+        .query_by_label("Depth-of-investigation index (a second run)")
+        .is_some());
+    assert!(h.query_by_label("draped on the terrain").is_some());
     std::fs::remove_dir_all(&dir).ok();
 }
 

@@ -29,6 +29,8 @@ fn big_project(generation: usize) -> ProjectFile {
                 .layers
                 .clone(),
             settings: Default::default(),
+            fft_heights: Default::default(),
+            appraisal: None,
         })
         .collect();
     p

@@ -7,7 +7,7 @@
 use fieldstone_core::memory::{check, SHARE};
 use fieldstone_core::mesh::recipe::{MeshRecipe, BYTES_PER_CELL};
 use fieldstone_core::operator::dense::{DenseOperator, OperatorError, Survey};
-use fieldstone_core::operator::fft::FftOperator;
+use fieldstone_core::operator::fft::{FftOperator, Heights};
 use fieldstone_core::progress::Silent;
 
 #[test]
@@ -30,16 +30,31 @@ fn an_fft_operator_too_big_for_memory_is_refused() {
     let [nx, ny, nz] = mesh.shape();
     let active: Vec<usize> = (0..mesh.n_cells()).collect();
     let mask = vec![true; nx * ny];
-    let need = FftOperator::bytes_needed([nx, ny, nz]);
-    // 40 × 40 × 10 cells: 10 layers of an 80 × 80 complex grid, 16 bytes each,
-    // and the 79 × 79 kernel row, 8 bytes each.
-    assert_eq!(need, 10 * (80 * 80 * 16 + 79 * 79 * 8));
-    let ok = FftOperator::build_within(&mesh, &active, 1.0, &mask, Survey::Gravity, 2 * need);
+    let need = FftOperator::bytes_needed([nx, ny, nz], 1);
+    // 40 × 40 × 10 cells: 10 layers of an 80 × 80 real grid's half spectrum
+    // (41 × 80 complex values, 16 bytes each), the 79 × 79 kernel row (8 bytes
+    // each), and 20 bytes of maps and norms per cell.
+    assert_eq!(need, 10 * (41 * 80 * 16 + 79 * 79 * 8) + 16_000 * 20);
+    let ok = FftOperator::build_within(
+        &mesh,
+        &active,
+        &Heights::Level(1.0),
+        &mask,
+        Survey::Gravity,
+        2 * need,
+    );
     assert!(ok.is_ok());
-    let e = FftOperator::build_within(&mesh, &active, 1.0, &mask, Survey::Gravity, need)
-        .err()
-        .expect("refused")
-        .to_string();
+    let e = FftOperator::build_within(
+        &mesh,
+        &active,
+        &Heights::Level(1.0),
+        &mask,
+        Survey::Gravity,
+        need,
+    )
+    .err()
+    .expect("refused")
+    .to_string();
     assert!(e.contains("FFT operator") && e.contains("MB"), "{e}");
 }
 

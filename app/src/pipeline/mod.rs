@@ -1,7 +1,7 @@
 //! The headless pipeline: every stale step of a project, in order.
 //!
 //! import → reduce → grid → regional → mesh are shared by all scenarios;
-//! constraints → inversion → exports run per scenario. Each step records its
+//! constraints → inversion → (appraisal) → exports run per scenario. Each step records its
 //! inputs (content hashes of the files it reads, or the fingerprint of the
 //! step before it), its parameters hash, the program version and its start
 //! and end time in the project's provenance; a step whose record matches and
@@ -13,14 +13,16 @@
 mod data;
 pub use data::write_text;
 use fieldstone_core::io::undo::Snapshot;
+pub mod appraisal;
+pub mod operator;
 mod steps;
 
 pub use data::{load_points, Points};
 pub use steps::{
-    constraints_of, hole_log_for, hole_traces, load_model, load_model_context, map_options, prov,
-    read_predicted, run_section_figure, run_slice_figure, scenario_data, section_extras,
-    terrain_along, units_of, write_constraints, FigureStyle, HoleLog, ModelContext, RunFile,
-    TruthComparison, CAUTION,
+    constraints_of, hole_log_for, hole_traces, load_model, load_model_context, load_run_array,
+    map_options, prov, read_predicted, run_section_figure, run_slice_figure, scenario_data,
+    section_extras, terrain_along, units_of, write_constraints, FigureStyle, HoleLog, ModelContext,
+    RunFile, TruthComparison, CAUTION,
 };
 
 use fieldstone_core::progress::Observer;
@@ -213,10 +215,19 @@ pub fn plan(dir: &Path, p: &ProjectFile) -> Result<Plan, String> {
         let c_in = vec![("upstream".into(), mesh_fp.clone())];
         let c_fp = fingerprint(&c_in, &c_params);
         let i_in = vec![("upstream".into(), c_fp)];
-        let i_params = hash_json(&(&s.settings, s.operator, s.data, p.inducing_field));
+        let i_params = if s.fft_heights == Default::default() {
+            hash_json(&(&s.settings, s.operator, s.data, p.inducing_field))
+        } else {
+            hash_json(&(
+                &s.settings,
+                s.operator,
+                s.data,
+                p.inducing_field,
+                s.fft_heights,
+            ))
+        };
         let i_fp = fingerprint(&i_in, &i_params);
-        let e_in = vec![("upstream".into(), i_fp)];
-        let chain = vec![
+        let mut chain = vec![
             Planned {
                 key: format!("constraints/{}", s.name),
                 inputs: c_in,
@@ -238,13 +249,32 @@ pub fn plan(dir: &Path, p: &ProjectFile) -> Result<Plan, String> {
                 .map(|f| rd.join(f))
                 .collect(),
             },
-            Planned {
-                key: format!("exports/{}", s.name),
-                inputs: e_in,
-                parameters_hash: hash_json(&p.exports),
-                outputs: vec![rd.join("exports.json")],
-            },
         ];
+        // Appraisal (when asked for) reruns the inversion with changed
+        // references or held regions; exports follow it so a changed
+        // appraisal leaves the inversion alone.
+        let mut upstream = i_fp;
+        if let Some(a) = &s.appraisal {
+            let a_in = vec![("upstream".into(), upstream)];
+            let a_params = hash_json(a);
+            upstream = fingerprint(&a_in, &a_params);
+            let mut outputs = vec![rd.join("appraisal.json")];
+            if a.doi_reference_shift.is_some() {
+                outputs.push(rd.join("doi.npy"));
+            }
+            chain.push(Planned {
+                key: format!("appraisal/{}", s.name),
+                inputs: a_in,
+                parameters_hash: a_params,
+                outputs,
+            });
+        }
+        chain.push(Planned {
+            key: format!("exports/{}", s.name),
+            inputs: vec![("upstream".into(), upstream)],
+            parameters_hash: hash_json(&p.exports),
+            outputs: vec![rd.join("exports.json")],
+        });
         per.push((s.name.clone(), chain));
     }
     Ok((shared, per))

@@ -1,6 +1,7 @@
 //! The work of each pipeline step.
 
 use super::data::{load_points, write_points, write_text, Points};
+use super::operator::prepare;
 use super::{at, run_dir};
 use crate::commands::grid::{GridArgs, Method};
 use crate::commands::reduce::{EllipsoidArg, FreeAirArg, GravityArgs, MagneticArgs};
@@ -21,17 +22,14 @@ use fieldstone_core::filter::regional::{separate, RegionalMethod};
 use fieldstone_core::geodesy::normal_gravity::GravityEllipsoid;
 use fieldstone_core::grid::geotiff::{read_geotiff, write_geotiff};
 use fieldstone_core::grid::Grid2;
-use fieldstone_core::invert::solver::{invert, Problem, RunResult};
+use fieldstone_core::invert::solver::invert;
 use fieldstone_core::io::atomic::write_bytes_atomically;
 use fieldstone_core::memory::available_or_assumed;
 use fieldstone_core::mesh::size::estimate;
 use fieldstone_core::mesh::topo::{active_cells, ActiveCells};
 use fieldstone_core::mesh::TensorMesh;
-use fieldstone_core::operator::dense::{DenseOperator, Survey};
-use fieldstone_core::operator::fft::FftOperator;
-use fieldstone_core::operator::Operator;
 use fieldstone_core::progress::Observer;
-use fieldstone_core::project::file::{DataKind, OperatorChoice, ProjectFile, Scenario};
+use fieldstone_core::project::file::{DataKind, ProjectFile, Scenario};
 use fieldstone_core::project::provenance::hash_json;
 use fieldstone_core::reduce::gravity::FreeAir;
 use fieldstone_core::table::passthrough::read_passthrough;
@@ -56,7 +54,7 @@ impl Context {
     pub fn forget_model(&mut self) {
         self.model = None;
     }
-    fn model(&mut self, p: &ProjectFile) -> Result<&ModelContext, String> {
+    pub(crate) fn model(&mut self, p: &ProjectFile) -> Result<&ModelContext, String> {
         if self.model.is_none() {
             self.model = Some(load_model_context(&self.dir, p)?);
         }
@@ -123,7 +121,7 @@ pub fn load_model_context(dir: &Path, p: &ProjectFile) -> Result<ModelContext, S
     })
 }
 
-fn data_path(dir: &Path, f: &str) -> PathBuf {
+pub(crate) fn data_path(dir: &Path, f: &str) -> PathBuf {
     dir.join("data").join(f)
 }
 
@@ -174,6 +172,10 @@ pub fn run_step(
         "exports" => {
             let s = scenario.ok_or("no scenario")?;
             exports(&dir, p, ctx, s, obs)
+        }
+        "appraisal" => {
+            let s = scenario.ok_or("no scenario")?;
+            super::appraisal::run(&dir, p, ctx, s, obs)
         }
         other => Err(format!("unknown step {other}")),
     }
@@ -635,13 +637,6 @@ pub fn scenario_data(dir: &Path, s: &Scenario) -> Result<Points, String> {
     ))
 }
 
-fn survey_of(p: &ProjectFile, s: &Scenario) -> Result<Survey, String> {
-    Ok(match s.data {
-        DataKind::Gravity => Survey::Gravity,
-        DataKind::Magnetic => Survey::Magnetic(p.inducing_field.ok_or("a magnetic scenario needs the project's inducing field (intensity, inclination, declination)")?),
-    })
-}
-
 /// Comparison of a model with the known truth of an invented project.
 #[derive(Debug, Clone, serde::Serialize, serde::Deserialize, PartialEq)]
 pub struct TruthComparison {
@@ -720,6 +715,9 @@ pub struct RunFile {
     #[serde(flatten)]
     pub summary: fieldstone_core::invert::RunSummary,
     pub truth_comparison: Option<TruthComparison>,
+    /// For the FFT operator: its rows against exact rows at sample data.
+    #[serde(default)]
+    pub operator_check: Option<fieldstone_core::operator::fft::RowCheck>,
     /// SHA-256 of the JSON of the mesh recipe, the constraint layers and the
     /// inversion settings this model came from.
     #[serde(default)]
@@ -728,29 +726,6 @@ pub struct RunFile {
 }
 
 pub const CAUTION: &str = "Potential-field models are non-unique: this model is one of infinitely many that fit the data, and the constraints decided which one you see. Interpretation and public reporting of exploration results follow the reporting codes of the jurisdiction and the judgement of a qualified person.";
-
-fn choose_operator(
-    p: &ProjectFile,
-    s: &Scenario,
-    m: &ModelContext,
-    n_data: usize,
-) -> Result<OperatorChoice, String> {
-    let n_act = m.active.count();
-    let avail = available_or_assumed();
-    let dense_fits = (n_data as u64 * n_act as u64 * 4) <= avail / 2;
-    Ok(match s.operator {
-        OperatorChoice::Automatic if dense_fits => OperatorChoice::Dense,
-        OperatorChoice::Automatic if m.mesh.uniform_horizontal() => OperatorChoice::Fft,
-        OperatorChoice::Automatic => {
-            let e = estimate(m.mesh.n_cells(), n_act, n_data, Some(avail));
-            return Err(format!("the dense sensitivity ({:.1} GB) does not fit in half the {:.1} GB available, and the mesh has expanding padding so the FFT operator cannot be used. {}", e.dense_bytes as f64 / 1e9, avail as f64 / 1e9, e.advice.join("; ")));
-        }
-        other => {
-            let _ = p;
-            other
-        }
-    })
-}
 
 fn inversion(
     dir: &Path,
@@ -761,93 +736,14 @@ fn inversion(
 ) -> Result<String, String> {
     let m = ctx.model(p)?;
     let (c, _) = constraints_of(m, s)?;
-    let pts = scenario_data(dir, s)?;
-    let survey = survey_of(p, s)?;
-    let active_idx: Vec<usize> = (0..m.mesh.n_cells()).filter(|&k| c.active[k]).collect();
-    let zref = pts
-        .xyz
-        .iter()
-        .map(|q| q[2])
-        .fold(f64::NEG_INFINITY, f64::max);
-    let choice = choose_operator(p, s, m, pts.value.len())?;
-    let (result, data_used): (RunResult, Points) = match choice {
-        OperatorChoice::Fft => {
-            // Gridded residual at the column centres, at one elevation above
-            // the highest datum (an approximation on rough terrain).
-            let kind = match s.data {
-                DataKind::Gravity => "gravity",
-                DataKind::Magnetic => "magnetic",
-            };
-            let res = read_geotiff(&data_path(dir, &format!("{kind}_residual.tif")))
-                .map_err(|e| e.to_string())?;
-            let [nx, ny, _] = m.mesh.shape();
-            let mut mask = vec![false; nx * ny];
-            let mut d = Points::default();
-            let floor = pts
-                .uncertainty
-                .iter()
-                .cloned()
-                .fold(f64::INFINITY, f64::min);
-            for j in 0..ny {
-                for i in 0..nx {
-                    let cc = m.mesh.centre(i, j, 0);
-                    if let Ok(v) = res.sample(cc[0], cc[1]) {
-                        if v.is_finite() {
-                            mask[i + nx * j] = true;
-                            d.xyz.push([cc[0], cc[1], zref]);
-                            d.value.push(v);
-                            d.uncertainty.push(floor);
-                        }
-                    }
-                }
-            }
-            obs.message(&format!("  FFT operator: {} gridded data at {zref:.1} m (data on the terrain are treated as level there)", d.value.len()));
-            let op = FftOperator::build(&m.mesh, &active_idx, zref, &mask, survey)
-                .map_err(|e| e.to_string())?;
-            let pb = Problem {
-                mesh: &m.mesh,
-                constraints: &c,
-                active: &active_idx,
-                data: &d.value,
-                uncertainty: &d.uncertainty,
-                reference_elevation_m: zref,
-            };
-            (
-                invert(&op, &pb, &s.settings, obs).map_err(|e| e.to_string())?,
-                d,
-            )
-        }
-        _ => {
-            let avail = available_or_assumed();
-            obs.message(&format!(
-                "  dense operator: {} data × {} cells = {:.0} MB",
-                pts.value.len(),
-                active_idx.len(),
-                pts.value.len() as f64 * active_idx.len() as f64 * 4e-6
-            ));
-            let (xyz, nudged) = off_cell_edges(&m.mesh, &pts.xyz);
-            if nudged > 0 {
-                obs.message(&format!("  {nudged} data lay on cell edges, where the field of a cell is singular; they were moved 1 cm east and north"));
-            }
-            let op = DenseOperator::build(&m.mesh, &active_idx, &xyz, survey, avail / 2, obs)
-                .map_err(|e| e.to_string())?;
-            let pb = Problem {
-                mesh: &m.mesh,
-                constraints: &c,
-                active: &active_idx,
-                data: &pts.value,
-                uncertainty: &pts.uncertainty,
-                reference_elevation_m: zref,
-            };
-            let r = invert(&op, &pb, &s.settings, obs).map_err(|e| e.to_string())?;
-            let _ = op.kind();
-            (r, pts)
-        }
-    };
+    let prep = prepare(dir, p, m, &c, s, obs)?;
+    let pb = prep.problem(&m.mesh, &c);
+    let result = invert(&prep.op, &pb, &s.settings, obs).map_err(|e| e.to_string())?;
+    let (data_used, active_idx) = (&prep.data, &prep.active_idx);
     let rd = run_dir(dir, &s.name);
     std::fs::create_dir_all(&rd).map_err(|e| format!("{}: {e}", rd.display()))?;
     let mut full = vec![f64::NAN; m.mesh.n_cells()];
-    for (v, &k) in result.model.iter().zip(&active_idx) {
+    for (v, &k) in result.model.iter().zip(active_idx) {
         full[k] = *v;
     }
     let (mu, du) = units_of(s.data);
@@ -931,6 +827,7 @@ fn inversion(
         program: pv.program.clone(),
         summary: result.summary.clone(),
         truth_comparison: comparison.clone(),
+        operator_check: prep.check.clone(),
         recipe_hashes: [
             ("mesh", hash_json(&p.mesh)),
             ("layers", hash_json(&s.layers)),
@@ -961,42 +858,28 @@ fn inversion(
     ))
 }
 
-/// Stations moved 1 cm east and north where two of their coordinates fall
-/// on mesh node planes (so they sit on a cell edge), and how many moved.
-pub fn off_cell_edges(mesh: &TensorMesh, xyz: &[[f64; 3]]) -> (Vec<[f64; 3]>, usize) {
-    let on = |nodes: &[f64], v: f64| {
-        let k = nodes.partition_point(|n| *n < v);
-        [k.checked_sub(1), Some(k)]
-            .into_iter()
-            .flatten()
-            .filter_map(|i| nodes.get(i))
-            .any(|n| (n - v).abs() < 1e-6)
-    };
-    let mut moved = 0;
-    let out = xyz
-        .iter()
-        .map(|p| {
-            let hits = on(&mesh.x, p[0]) as u8 + on(&mesh.y, p[1]) as u8 + on(&mesh.z, p[2]) as u8;
-            if hits >= 2 {
-                moved += 1;
-                [p[0] + 0.01, p[1] + 0.01, p[2]]
-            } else {
-                *p
-            }
-        })
-        .collect();
-    (out, moved)
-}
-
 /// Loads a run's model (full mesh, NaN in air) from `model.npy`.
 pub fn load_model(dir: &Path, scenario: &str, n_cells: usize) -> Result<Vec<f64>, String> {
-    let path = run_dir(dir, scenario).join("model.npy");
+    load_run_array(dir, scenario, "model.npy", n_cells)
+}
+
+/// Loads a per-cell array of a run (`model.npy`, `doi.npy`, …; full mesh,
+/// NaN in air).
+pub fn load_run_array(
+    dir: &Path,
+    scenario: &str,
+    file: &str,
+    n_cells: usize,
+) -> Result<Vec<f64>, String> {
+    let path = run_dir(dir, scenario).join(file);
     let bytes = std::fs::read(&path).map_err(|e| format!("{}: {e}", path.display()))?;
     if bytes.len() < 10 || &bytes[..6] != b"\x93NUMPY" {
         return Err(format!("{} is not a NumPy file", path.display()));
     }
     let hl = u16::from_le_bytes([bytes[8], bytes[9]]) as usize;
-    let body = &bytes[10 + hl..];
+    let body = bytes
+        .get(10 + hl..)
+        .ok_or_else(|| format!("{} is cut short inside its header", path.display()))?;
     if body.len() != n_cells * 8 {
         return Err(format!(
             "{} holds {} values but the mesh has {n_cells} cells; rerun the scenario",

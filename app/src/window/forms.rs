@@ -1140,6 +1140,8 @@ fn scenario_picker(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
                     operator: Default::default(),
                     layers: vec![],
                     settings: InversionSettings::default(),
+                    fft_heights: Default::default(),
+                    appraisal: None,
                 });
                 app.scenario = p.scenarios.len() - 1;
             }
@@ -1174,6 +1176,29 @@ fn runs(
     let Some(s) = p.scenarios.get_mut(app.scenario) else {
         return;
     };
+    // The run buttons first: the settings below can be long.
+    let name = s.name.clone();
+    let running = app.job.as_ref().is_some_and(|j| j.running());
+    ui.horizontal(|ui| {
+        if ui.add_enabled(!running, egui::Button::new("Run")).clicked() {
+            *run = Some((Selection::Named(name.clone()), false));
+        }
+        if ui
+            .add_enabled(!running, egui::Button::new("Rerun from scratch"))
+            .clicked()
+        {
+            *run = Some((Selection::Named(name.clone()), true));
+        }
+        if ui
+            .add_enabled(running, egui::Button::new("Cancel"))
+            .clicked()
+        {
+            if let Some(j) = &app.job {
+                j.cancel();
+            }
+        }
+    });
+    ui.separator();
     ui.horizontal(|ui| {
         ui.radio_value(&mut s.data, DataKind::Gravity, "gravity → density");
         ui.radio_value(
@@ -1228,27 +1253,27 @@ fn runs(
     if st.chi_factor <= 0.0 || st.alpha_s < 0.0 {
         warn(ui, "the target and weights must be positive");
     }
-    let name = s.name.clone();
-    let running = app.job.as_ref().is_some_and(|j| j.running());
-    ui.horizontal(|ui| {
-        if ui.add_enabled(!running, egui::Button::new("Run")).clicked() {
-            *run = Some((Selection::Named(name.clone()), false));
-        }
-        if ui
-            .add_enabled(!running, egui::Button::new("Rerun from scratch"))
-            .clicked()
-        {
-            *run = Some((Selection::Named(name.clone()), true));
-        }
-        if ui
-            .add_enabled(running, egui::Button::new("Cancel"))
-            .clicked()
-        {
-            if let Some(j) = &app.job {
-                j.cancel();
-            }
-        }
-    });
+    // The middle third of the core, top half of its depth: the first box of
+    // a new feature test.
+    let default_box = app
+        .doc
+        .as_ref()
+        .and_then(|d| d.views.model.as_ref())
+        .map(|m| {
+            let mesh = &m.mesh;
+            let third = |nodes: &[f64], (a, b): (usize, usize)| {
+                let (lo, hi) = (nodes[a], nodes[b]);
+                [lo + (hi - lo) / 3.0, lo + 2.0 * (hi - lo) / 3.0]
+            };
+            let (za, zb) = mesh.core[2];
+            let (zlo, ztop) = (mesh.z[za], mesh.z[zb]);
+            [
+                third(&mesh.x, mesh.core[0]),
+                third(&mesh.y, mesh.core[1]),
+                [ztop - 0.5 * (ztop - zlo), ztop],
+            ]
+        });
+    super::appraise_form::show(ui, s, default_box);
 }
 
 fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
@@ -1304,8 +1329,24 @@ fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
         (2, "Section north-south"),
         (3, "Data fit"),
         (4, "Difference from another run"),
+        (5, "Depth of investigation"),
     ] {
         ui.radio_value(&mut app.views.result_view, v, label);
+    }
+    if let Some(a) = doc
+        .views
+        .runs
+        .get(&names.get(app.scenario).cloned().unwrap_or_default())
+        .and_then(|r| r.appraisal.as_ref())
+    {
+        if !a.feature_tests.is_empty() {
+            ui.separator();
+            ui.label("Is this feature required?");
+            for t in &a.feature_tests {
+                ui.label(RichText::new(format!("{}: {}", t.name, t.report.verdict)).strong());
+                ui.label(RichText::new(&t.report.explanation).small());
+            }
+        }
     }
     if app.views.result_view == 4 {
         egui::ComboBox::from_label("minus")

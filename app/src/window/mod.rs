@@ -2,6 +2,7 @@
 //! left, the step's form on the right, its views in the centre, the run log
 //! at the bottom, a status bar with the cursor position.
 
+mod appraise_form;
 mod canvas;
 mod forms;
 pub mod jobs;

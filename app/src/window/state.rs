@@ -57,6 +57,10 @@ pub struct RunView {
     pub observed: Points,
     pub predicted: Vec<f64>,
     pub log: Vec<IterationRecord>,
+    /// The normalised depth-of-investigation index (full mesh) and the
+    /// appraisal report, when the scenario was appraised.
+    pub doi: Option<Vec<f64>>,
+    pub appraisal: Option<crate::pipeline::appraisal::AppraisalFile>,
 }
 
 /// A drill hole for the map: id, collar and points along its trace.
@@ -247,6 +251,19 @@ impl Doc {
                     let (observed, predicted) =
                         crate::pipeline::read_predicted(&rd.join("predicted.csv"))
                             .unwrap_or_default();
+                    let appraisal = crate::pipeline::appraisal::read_appraisal(dir, &s.name);
+                    let doi = appraisal
+                        .as_ref()
+                        .and_then(|a| a.doi.as_ref())
+                        .and_then(|_| {
+                            crate::pipeline::load_run_array(
+                                dir,
+                                &s.name,
+                                "doi.npy",
+                                m.mesh.n_cells(),
+                            )
+                            .ok()
+                        });
                     v.runs.insert(
                         s.name.clone(),
                         RunView {
@@ -255,6 +272,8 @@ impl Doc {
                             observed,
                             predicted,
                             log,
+                            doi,
+                            appraisal,
                         },
                     );
                 }

@@ -890,6 +890,7 @@ fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
             }
         }
         3 => data_fit(app, ui),
+        5 => depth_of_investigation(app, ui),
         4 => {
             let other = app.views.compare_with.clone();
             let Some(o) = doc.views.runs.get(&other) else {
@@ -923,6 +924,66 @@ fn results(app: &mut FieldstoneApp, ui: &mut Ui) {
             }
         }
     }
+}
+
+/// The depth-of-investigation index of the current scenario as a plan
+/// slice, with the median of each layer against depth.
+fn depth_of_investigation(app: &mut FieldstoneApp, ui: &mut Ui) {
+    let name = app.scenario_name();
+    let Some(run) = app.doc.as_ref().and_then(|d| d.views.runs.get(&name)) else {
+        return;
+    };
+    let (Some(doi), Some(summary)) = (
+        run.doi.clone(),
+        run.appraisal.as_ref().and_then(|a| a.doi.clone()),
+    ) else {
+        ui.label("This scenario has no depth-of-investigation index: set a reference shift under Runs → Appraisal, then run it.");
+        return;
+    };
+    let cut = summary.profile.cutoff;
+    ui.label(
+        RichText::new(match summary.profile.depth_m {
+            Some(z) if Some(z) == summary.profile.layers.first().map(|l| l.0) => format!("The layer medians of the index are above {cut} from the top down: the data do not decide the value of single layers here (potential-field data see sums down each column). Compare scenarios rather than reading depths off one model."),
+            Some(z) => format!("Below about {z:.0} m the layer medians of the index stay above {cut}: there the model follows its reference more than the data. Read deeper structure with care."),
+            None => format!("The layer medians stay below {cut}: the data, not the reference, decided the model at every depth of the mesh."),
+        })
+        .strong(),
+    );
+    ui.label(
+        RichText::new(format!(
+            "0 where the data decided a cell's value, 1 where it followed the reference (second run: reference shifted by {}{}, chi-factor {:.3}; {} of {} free cells above {cut}).",
+            summary.reference_shift,
+            summary
+                .block_m
+                .map(|b| format!(" up and down in blocks of {b:.0} m"))
+                .unwrap_or_default(),
+            summary.chi_factor_shifted,
+            summary.cells_above_cutoff,
+            summary.free_cells
+        ))
+        .weak(),
+    );
+    let key = format!("doi-{name}-{}", run.file.summary.elapsed_s);
+    let r = slice_map(app, ui, &key, &doi, "index (dimensionless)", vec![]);
+    if let Some(c) = r.clicked {
+        app.views.section_at = Some(c);
+    }
+    let pts: Vec<[f64; 2]> = summary
+        .profile
+        .layers
+        .iter()
+        .map(|(depth, median, _)| [*median, -depth])
+        .collect();
+    Plot::new("doi profile")
+        .height(150.0)
+        .legend(Legend::default())
+        .x_axis_label("median of the index in the layer")
+        .y_axis_label("elevation below the highest station, m")
+        .show(ui, |p| {
+            p.line(Line::new("layer median", pts.clone()));
+            p.points(Points::new("layers", pts).radius(2.5));
+            p.vline(egui_plot::VLine::new("cut-off", cut));
+        });
 }
 
 fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {

@@ -133,7 +133,7 @@ pub struct ConstraintArrays {
 }
 
 /// Face pairs (cell a, cell b, face index) along an axis.
-fn faces(shape: [usize; 3], axis: usize) -> impl Iterator<Item = (usize, usize, usize)> {
+pub fn faces(shape: [usize; 3], axis: usize) -> impl Iterator<Item = (usize, usize, usize)> {
     let [nx, ny, nz] = shape;
     let (fx, fy, fz) = match axis {
         0 => (nx - 1, ny, nz),

@@ -736,6 +736,7 @@ pub fn write_demo(out: &Path, size: DemoSize, obs: &dyn Observer) -> Result<Demo
 /// The scenarios of the demo: the same data, three sets of assumptions for
 /// density and one for susceptibility.
 pub fn demo_scenarios() -> Vec<Scenario> {
+    use crate::invert::appraise::{AppraisalSettings, DoiPattern, FeatureTestSpec, Hold};
     let whole_bounds = |lo: f64, hi: f64| Layer {
         name: "bounds everywhere".into(),
         enabled: true,
@@ -776,6 +777,22 @@ pub fn demo_scenarios() -> Vec<Scenario> {
             operator: OperatorChoice::Automatic,
             layers: vec![],
             settings: smooth.clone(),
+            fft_heights: Default::default(),
+            // What of the smooth model did the data decide, and does the
+            // data need the geologist's intrusive at all?
+            appraisal: Some(AppraisalSettings {
+                doi_reference_shift: Some(0.1),
+                doi_cutoff: 0.4,
+                doi_pattern: DoiPattern::Checkerboard { block_m: None },
+                feature_tests: vec![FeatureTestSpec {
+                    name: "intrusive".into(),
+                    region: Region::Wireframe {
+                        name: "intrusive_interpretation".into(),
+                    },
+                    background: 0.0,
+                    hold: Hold::Fixed,
+                }],
+            }),
         },
         Scenario {
             name: "bounds_focusing".into(),
@@ -783,6 +800,8 @@ pub fn demo_scenarios() -> Vec<Scenario> {
             operator: OperatorChoice::Automatic,
             layers: vec![whole_bounds(-0.6, 0.45)],
             settings: focused,
+            fft_heights: Default::default(),
+            appraisal: None,
         },
         Scenario {
             name: "drilling_cover_contact".into(),
@@ -843,6 +862,8 @@ pub fn demo_scenarios() -> Vec<Scenario> {
                 },
             ],
             settings: informed,
+            fft_heights: Default::default(),
+            appraisal: None,
         },
         Scenario {
             name: "magnetic_bounds".into(),
@@ -850,6 +871,8 @@ pub fn demo_scenarios() -> Vec<Scenario> {
             operator: OperatorChoice::Automatic,
             layers: vec![whole_bounds(0.0, 0.2)],
             settings: magnetic,
+            fft_heights: Default::default(),
+            appraisal: None,
         },
     ]
 }

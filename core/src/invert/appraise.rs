@@ -6,6 +6,17 @@
 //!   value (both runs agree) and near 1 where the model just followed its
 //!   reference. The second run's data are moved by the mean field of the
 //!   shift (see the function).
+//! * [`depth_of_investigation_pattern`]: the same with a shift that varies
+//!   from cell to cell. For potential fields a uniform shift over a wide
+//!   mesh is nearly a slab, whose field is a near-constant offset: residual
+//!   data cannot see it (so the index flattens towards 1 at every depth once
+//!   the offset is allowed for) or must cancel it (so the index goes negative
+//!   at depth where it is not). [`DoiPattern::Checkerboard`] shifts the
+//!   reference by +δ and −δ in square blocks, the same in every layer, so
+//!   the shift has no mean field and its field fades with depth like that of
+//!   any structure of the block's size: the index then says down to which
+//!   depth the data decide structure of that size. This pattern is a choice
+//!   of this program, not part of the published method.
 //! * [`feature_test`]: "is this feature required?". The cells of a region are
 //!   held at the background (fixed, or referenced with a high weight), the
 //!   inversion is run again, and the report says whether the target misfit is
@@ -20,6 +31,111 @@ use crate::constraint::build::ConstraintArrays;
 use crate::operator::Operator;
 use crate::progress::Observer;
 use serde::{Deserialize, Serialize};
+
+/// How the reference is moved for the depth-of-investigation index.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum DoiPattern {
+    /// +δ in every free cell (Oldenburg & Li 1999).
+    Uniform,
+    /// +δ and −δ in square blocks of this side (metres; none: a quarter of
+    /// the core's shorter side, at least two cells), the same in every layer.
+    Checkerboard { block_m: Option<f64> },
+}
+
+impl Default for DoiPattern {
+    fn default() -> Self {
+        DoiPattern::Checkerboard { block_m: None }
+    }
+}
+
+/// The reference shift of every mesh cell for the index: `shift` times the
+/// pattern's sign on free active cells, 0 elsewhere; and the block side used.
+pub fn doi_shift(pb: &Problem, shift: f64, pattern: DoiPattern) -> (Vec<f64>, Option<f64>) {
+    let mesh = pb.mesh;
+    let c = pb.constraints;
+    let [nx, ny, _] = mesh.shape();
+    let block = match pattern {
+        DoiPattern::Uniform => None,
+        DoiPattern::Checkerboard { block_m } => Some(block_m.unwrap_or_else(|| {
+            let side = |nodes: &[f64], (a, b): (usize, usize)| nodes[b] - nodes[a];
+            let short = side(&mesh.x, mesh.core[0]).min(side(&mesh.y, mesh.core[1]));
+            let cell = (mesh.x[mesh.core[0].0 + 1] - mesh.x[mesh.core[0].0])
+                .max(mesh.y[mesh.core[1].0 + 1] - mesh.y[mesh.core[1].0]);
+            ((0.25 * short / cell).round().max(2.0)) * cell
+        })),
+    };
+    let (x0, y0) = (mesh.x[mesh.core[0].0], mesh.y[mesh.core[1].0]);
+    let out = (0..mesh.n_cells())
+        .map(|cell| {
+            if !c.active[cell] || c.fixed[cell] {
+                return 0.0;
+            }
+            match block {
+                None => shift,
+                Some(b) => {
+                    let p = mesh.centre(cell % nx, (cell / nx) % ny, 0);
+                    let (bx, by) = (
+                        ((p[0] - x0) / b).floor() as i64,
+                        ((p[1] - y0) / b).floor() as i64,
+                    );
+                    if (bx + by).rem_euclid(2) == 0 {
+                        shift
+                    } else {
+                        -shift
+                    }
+                }
+            }
+        })
+        .collect();
+    (out, block)
+}
+
+/// What to appraise after a scenario's inversion, as plain data.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct AppraisalSettings {
+    /// Reference shift (model units: g/cm³ or SI) of the second run for the
+    /// depth-of-investigation index; none: no index.
+    #[serde(default)]
+    pub doi_reference_shift: Option<f64>,
+    /// Normalised index above which a layer counts as decided by the
+    /// reference rather than the data (a judgement; 0.4 by default).
+    #[serde(default = "default_doi_cutoff")]
+    pub doi_cutoff: f64,
+    /// How the shift is laid out over the cells.
+    #[serde(default)]
+    pub doi_pattern: DoiPattern,
+    /// "Is this feature required?" reruns.
+    #[serde(default)]
+    pub feature_tests: Vec<FeatureTestSpec>,
+}
+
+/// The default cut-off of the normalised depth-of-investigation index.
+pub fn default_doi_cutoff() -> f64 {
+    0.4
+}
+
+impl Default for AppraisalSettings {
+    fn default() -> Self {
+        AppraisalSettings {
+            doi_reference_shift: None,
+            doi_cutoff: default_doi_cutoff(),
+            doi_pattern: DoiPattern::default(),
+            feature_tests: Vec::new(),
+        }
+    }
+}
+
+/// One feature test: a named region held at a background value.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FeatureTestSpec {
+    pub name: String,
+    pub region: crate::constraint::region::Region,
+    /// Model units (0: the reduction background itself).
+    #[serde(default)]
+    pub background: f64,
+    pub hold: Hold,
+}
 
 /// The index of one run pair.
 #[derive(Debug, Clone)]
@@ -68,32 +184,76 @@ pub fn depth_of_investigation<O: Operator>(
             "the reference shift for the depth-of-investigation index must be a non-zero number (got {shift})"
         )));
     }
-    same_cells(pb, base)?;
+    let (cell_shift, _) = doi_shift(pb, shift, DoiPattern::Uniform);
+    depth_of_investigation_pattern(op, pb, s, base, &cell_shift, obs)
+}
+
+/// Runs the second inversion with the reference moved by `cell_shift` (one
+/// value per mesh cell, model units; 0 leaves a cell alone) and forms the
+/// index (m₂ − m₁)/shift against `base`. Where neighbouring free cells are
+/// shifted differently the reference gradient across their face moves with
+/// the shift too, so the shifted reference is one whole model: following it
+/// costs nothing more in smoothness than following the first one.
+pub fn depth_of_investigation_pattern<O: Operator>(
+    op: &O,
+    pb: &Problem,
+    s: &InversionSettings,
+    base: &RunResult,
+    cell_shift: &[f64],
+    obs: &dyn Observer,
+) -> Result<DoiResult, InversionError> {
     let c = pb.constraints;
+    if cell_shift.len() != c.active.len()
+        || cell_shift.iter().any(|v| !v.is_finite())
+        || pb.active.iter().all(|&k| cell_shift[k] == 0.0)
+    {
+        return Err(InversionError::Setup(
+            "the reference shift for the depth-of-investigation index must be finite, one per cell, and not zero everywhere".into(),
+        ));
+    }
+    same_cells(pb, base)?;
     let mut k: ConstraintArrays = c.clone();
     let mut outside = 0;
     for &cell in pb.active {
-        if c.fixed[cell] {
+        let d = cell_shift[cell];
+        if c.fixed[cell] || d == 0.0 {
             continue;
         }
-        let r = c.reference[cell] + shift;
+        let r = c.reference[cell] + d;
         if r < c.lower[cell] || r > c.upper[cell] {
             outside += 1;
         }
         k.reference[cell] = r;
+    }
+    let mesh = pb.mesh;
+    let shape = mesh.shape();
+    let [nx, ny, _] = shape;
+    let centre = |cell: usize| mesh.centre(cell % nx, (cell / nx) % ny, cell / (nx * ny));
+    let free = |cell: usize| c.active[cell] && !c.fixed[cell];
+    for (axis, grad) in [
+        (0usize, &mut k.ref_grad_x),
+        (1, &mut k.ref_grad_y),
+        (2, &mut k.ref_grad_z),
+    ] {
+        for (a, b, f) in crate::constraint::build::faces(shape, axis) {
+            let d = cell_shift[b] - cell_shift[a];
+            if d != 0.0 && free(a) && free(b) {
+                grad[f] += d / (centre(b)[axis] - centre(a)[axis]);
+            }
+        }
     }
     // The field of the shift over the stations. A uniform shift over a wide
     // mesh is nearly an infinite slab: for gravity it adds a near-constant
     // 2πGδh to every datum, which the second run would otherwise cancel with
     // spurious structure wherever that is cheapest. Residual data carry no
     // meaningful base level, so the second run's data are moved by the mean
-    // of that field (for magnetics it is close to zero: a uniformly
-    // magnetised slab has no external field). What remains of the shift's
-    // field (edge effects) is left for the data to decide.
+    // of that field (for magnetics, and for a checkerboard shift, it is close
+    // to zero). What remains of the shift's field is left for the data to
+    // decide.
     let delta: Vec<f64> = pb
         .active
         .iter()
-        .map(|&cell| if c.fixed[cell] { 0.0 } else { shift })
+        .map(|&cell| if c.fixed[cell] { 0.0 } else { cell_shift[cell] })
         .collect();
     let mut field = vec![0.0; pb.data.len()];
     op.apply(&delta, &mut field);
@@ -110,10 +270,10 @@ pub fn depth_of_investigation<O: Operator>(
         .iter()
         .enumerate()
         .map(|(a, &cell)| {
-            if c.fixed[cell] {
+            if c.fixed[cell] || delta[a] == 0.0 {
                 f64::NAN
             } else {
-                (shifted.model[a] - base.model[a]) / shift
+                (shifted.model[a] - base.model[a]) / delta[a]
             }
         })
         .collect();

@@ -4,12 +4,13 @@
 // iterators in these numerical kernels.
 #![allow(clippy::needless_range_loop)]
 
-use super::objective::{Face, ModelObjective};
+use super::objective::{dot, Face, ModelObjective, CHUNK};
 use super::{InversionSettings, IterationRecord, RunSummary, Weighting};
 use crate::constraint::build::ConstraintArrays;
 use crate::mesh::TensorMesh;
 use crate::operator::Operator;
 use crate::progress::Observer;
+use rayon::prelude::*;
 use std::time::Instant;
 use thiserror::Error;
 
@@ -53,10 +54,6 @@ pub fn default_uncertainty(data: &[f64], floor: f64, percent: f64) -> Vec<f64> {
     data.iter()
         .map(|d| floor + 0.01 * percent * d.abs())
         .collect()
-}
-
-fn dot(a: &[f64], b: &[f64]) -> f64 {
-    a.iter().zip(b).map(|(x, y)| x * y).sum()
 }
 
 struct Setup<'a, O: Operator> {
@@ -167,23 +164,29 @@ impl<O: Operator> Setup<'_, O> {
                     break;
                 }
                 let a = rz / php;
-                for j in 0..n {
-                    x[j] += a * p[j];
-                    r[j] -= a * hp[j];
-                }
+                x.par_iter_mut()
+                    .zip(r.par_iter_mut())
+                    .zip(p.par_iter().zip(hp.par_iter()))
+                    .with_min_len(CHUNK)
+                    .for_each(|((xj, rj), (pj, hj))| {
+                        *xj += a * pj;
+                        *rj -= a * hj;
+                    });
                 cg_total += 1;
                 if dot(&r, &r).sqrt() <= s.cg_tolerance * r0 {
                     break;
                 }
-                for j in 0..n {
-                    z[j] = r[j] * inv_diag[j];
-                }
+                z.par_iter_mut()
+                    .zip(r.par_iter().zip(inv_diag.par_iter()))
+                    .with_min_len(CHUNK)
+                    .for_each(|(zj, (rj, dj))| *zj = rj * dj);
                 let rz_new = dot(&r, &z);
                 let bta = rz_new / rz;
                 rz = rz_new;
-                for j in 0..n {
-                    p[j] = z[j] + bta * p[j];
-                }
+                p.par_iter_mut()
+                    .zip(z.par_iter())
+                    .with_min_len(CHUNK)
+                    .for_each(|(pj, zj)| *pj = zj + bta * *pj);
             }
             // Projected step with backtracking on the objective.
             let phi_now = self.phi_d(&pred) + beta * self.obj.value(m).total;
@@ -343,14 +346,11 @@ pub fn model_objective<O: Operator>(
         .enumerate()
         .map(|(a, &k)| s.alpha_s * c.reference_weight[k] * wdep[a] * wdep[a])
         .collect();
-    let nf = faces.len();
-    let obj = ModelObjective {
+    let obj = ModelObjective::new(
         ws2,
-        m_ref: pb.active.iter().map(|&k| c.reference[k]).collect(),
+        pb.active.iter().map(|&k| c.reference[k]).collect(),
         faces,
-        r_s: vec![1.0; n],
-        r_f: vec![1.0; nf],
-    };
+    );
     Ok((obj, lower, upper))
 }
 
@@ -520,11 +520,8 @@ pub fn invert<O: Operator>(
             .map(|(a, b)| (a - b).abs())
             .collect();
         let mut eps_s = percentile(&x_s, 0.98).max(1e-12);
-        let grads: Vec<f64> = setup
-            .obj
-            .faces
-            .iter()
-            .map(|f| ((m[f.b as usize] - m[f.a as usize]) * f.inv_h).abs())
+        let grads: Vec<f64> = (0..setup.obj.n_faces())
+            .map(|f| setup.obj.face_gradient(&m, f).abs())
             .collect();
         let mut eps_f = percentile(&grads, 0.98).max(1e-15);
         // ε stops at a hundredth of its start: smaller values make the
@@ -536,20 +533,31 @@ pub fn invert<O: Operator>(
             // Lawson weights R = (x² + ε²)^((p − 2)/2), scaled so that the
             // reweighted norm keeps the size of the previous one.
             let p_s = s.norms[0];
-            for j in 0..n {
-                let x = m[j] - setup.obj.m_ref[j];
-                setup.obj.r_s[j] = (x * x + eps_s * eps_s).powf((p_s - 2.0) / 2.0);
-            }
-            for (fi, f) in setup.obj.faces.iter().enumerate() {
-                let p = s.norms[1 + f.axis as usize];
-                let g = (m[f.b as usize] - m[f.a as usize]) * f.inv_h;
-                setup.obj.r_f[fi] = (g * g + eps_f * eps_f).powf((p - 2.0) / 2.0);
-            }
+            let m_ref = setup.obj.m_ref.clone();
+            let face_terms: Vec<(f64, f64)> = (0..setup.obj.n_faces())
+                .map(|f| {
+                    (
+                        s.norms[1 + setup.obj.face_axis(f).min(2) as usize],
+                        setup.obj.face_gradient(&m, f),
+                    )
+                })
+                .collect();
+            setup.obj.set_irls(|r_s, r_f| {
+                for j in 0..n {
+                    let x = m[j] - m_ref[j];
+                    r_s[j] = (x * x + eps_s * eps_s).powf((p_s - 2.0) / 2.0);
+                }
+                for (r, (p, g)) in r_f.iter_mut().zip(&face_terms) {
+                    *r = (g * g + eps_f * eps_f).powf((p - 2.0) / 2.0);
+                }
+            });
             let after = setup.obj.value(&m).total;
             if after > 0.0 && before > 0.0 {
                 let k = before / after;
-                setup.obj.r_s.iter_mut().for_each(|r| *r *= k);
-                setup.obj.r_f.iter_mut().for_each(|r| *r *= k);
+                setup.obj.set_irls(|r_s, r_f| {
+                    r_s.iter_mut().for_each(|r| *r *= k);
+                    r_f.iter_mut().for_each(|r| *r *= k);
+                });
             }
             let old = m.clone();
             let cg = setup.solve(&mut m, beta, s, obs)?;
@@ -574,30 +582,62 @@ pub fn invert<O: Operator>(
             }
             stopped = "focusing: maximum iterations".into();
         }
-        // A last β search (secant in log β) so the final model sits at the target.
-        let mut pts: Vec<(f64, f64)> = Vec::new();
+        // A last β search so the final model sits at the target. Each trial
+        // continues from the one before (the inner solves are inexact, so
+        // the model keeps converging on the way); until β is bracketed it
+        // moves by target/φ_d, growing the step when two trials fall on the
+        // same side (φ_d can respond slowly to β once cells sit at their
+        // bounds); once bracketed it is bisected geometrically. The trial
+        // closest to the target is the model returned.
+        let tol = s.target_tolerance * target;
+        let mut phi_d = log.last().map(|l| l.phi_d).unwrap_or(target);
+        let mut best = ((phi_d - target).abs(), beta, log.len());
+        let mut best_m = m.clone();
+        let (mut lo, mut hi): (Option<f64>, Option<f64>) = (None, None);
+        let mut step = 1.0f64;
         for _ in 0..12 {
-            let phi_d = log.last().map(|l| l.phi_d).unwrap_or(target);
-            if (phi_d - target).abs() <= s.target_tolerance * target {
+            if (phi_d - target).abs() <= tol {
                 break;
             }
-            pts.push((beta.ln(), phi_d));
-            let next = match pts.len() {
-                0 | 1 => beta * (target / phi_d).clamp(0.25, 4.0),
+            // φ_d grows with β.
+            if phi_d > target {
+                hi = Some(beta);
+            } else {
+                lo = Some(beta);
+            }
+            beta = match (lo, hi) {
+                (Some(l), Some(h)) => (l * h).sqrt(),
                 _ => {
-                    let (a, b) = (pts[pts.len() - 2], pts[pts.len() - 1]);
-                    if (b.1 - a.1).abs() < 1e-12 * target {
-                        beta * (target / phi_d).clamp(0.25, 4.0)
-                    } else {
-                        let lb = b.0 + (target - b.1) * (b.0 - a.0) / (b.1 - a.1);
-                        lb.clamp(b.0 - 1.5, b.0 + 1.5).exp()
+                    let mut f = (target / phi_d).clamp(0.25, 4.0);
+                    if (f > 1.0) == (step > 1.0) && step != 1.0 {
+                        f = if f > 1.0 {
+                            f.max(step * step).min(16.0)
+                        } else {
+                            f.min(step * step).max(1.0 / 16.0)
+                        };
                     }
+                    step = f;
+                    beta * f
                 }
             };
-            beta = next;
             let cg = setup.solve(&mut m, beta, s, obs)?;
             op.apply(&m, &mut pred);
-            record(&mut log, &m, &pred, beta, cg, Some(eps_s), &setup);
+            phi_d = record(&mut log, &m, &pred, beta, cg, Some(eps_s), &setup);
+            if (phi_d - target).abs() < best.0 {
+                best = ((phi_d - target).abs(), beta, log.len());
+                best_m.copy_from_slice(&m);
+            }
+        }
+        if best.2 != log.len() {
+            // Restate the closest trial as the last row of the log.
+            m = best_m;
+            beta = best.1;
+            op.apply(&m, &mut pred);
+            record(&mut log, &m, &pred, beta, 0, Some(eps_s), &setup);
+            stopped.push_str(&format!(
+                "; the model is the final β trial closest to the target (row {})",
+                best.2
+            ));
         }
         return Ok(finish(
             op, &setup, m, pred, log, beta, target, start, stopped,

@@ -25,6 +25,10 @@ pub enum OperatorError {
     Cancelled,
     #[error("there are no data or no active cells")]
     Empty,
+    #[error("the FFT operator cannot be used here: {0}")]
+    Layout(String),
+    #[error("{0}")]
+    Heights(String),
     #[error(transparent)]
     Memory(#[from] crate::memory::MemoryError),
 }

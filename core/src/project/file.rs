@@ -3,6 +3,7 @@
 use super::provenance::StepRecord;
 use crate::constraint::build::Layer;
 use crate::filter::regional::RegionalMethod;
+use crate::invert::appraise::AppraisalSettings;
 use crate::invert::InversionSettings;
 use crate::io::atomic::{write_atomically, WriteError};
 use crate::mesh::recipe::MeshRecipe;
@@ -51,6 +52,19 @@ pub enum OperatorChoice {
     Fft,
 }
 
+/// Where the FFT operator puts the gridded data (the dense operator always
+/// uses each datum's own position).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize, Default)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum FftHeights {
+    /// Every datum at the elevation of the highest station.
+    #[default]
+    Level,
+    /// Every datum at its own elevation (terrain plus the median station
+    /// height above it), the kernels expanded in height to this order (0–6).
+    Draped { order: usize },
+}
+
 /// A named set of constraint layers and inversion settings on the same data
 /// and mesh.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -62,6 +76,11 @@ pub struct Scenario {
     pub operator: OperatorChoice,
     pub layers: Vec<Layer>,
     pub settings: InversionSettings,
+    #[serde(default)]
+    pub fft_heights: FftHeights,
+    /// Appraisal reruns after the inversion (none by default).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub appraisal: Option<AppraisalSettings>,
 }
 
 /// The gravity survey of a project and how its readings are reduced.
@@ -407,6 +426,39 @@ impl ProjectFile {
             "wireframes",
             self.wireframes.iter().map(|s| s.name.as_str()).collect(),
         )?;
+        for (k, sc) in self.scenarios.iter().enumerate() {
+            if let FftHeights::Draped { order } = sc.fft_heights {
+                if order > 6 {
+                    return Err(invalid(
+                        format!("scenarios[{k}].fft_heights.order"),
+                        format!("the height order must be 0 to 6 (got {order})"),
+                    ));
+                }
+            }
+            if let Some(a) = &sc.appraisal {
+                names(
+                    &format!("scenarios[{k}].appraisal.feature_tests"),
+                    a.feature_tests.iter().map(|t| t.name.as_str()).collect(),
+                )?;
+                if let Some(d) = a.doi_reference_shift {
+                    if !(d.is_finite() && d != 0.0) {
+                        return Err(invalid(
+                            format!("scenarios[{k}].appraisal.doi_reference_shift"),
+                            format!("the reference shift must be a non-zero number (got {d})"),
+                        ));
+                    }
+                }
+                if !(a.doi_cutoff > 0.0 && a.doi_cutoff < 1.0) {
+                    return Err(invalid(
+                        format!("scenarios[{k}].appraisal.doi_cutoff"),
+                        format!(
+                            "the cut-off must lie between 0 and 1 (got {})",
+                            a.doi_cutoff
+                        ),
+                    ));
+                }
+            }
+        }
         Ok(())
     }
 }
@@ -458,6 +510,8 @@ mod tests {
             operator: OperatorChoice::Automatic,
             layers: vec![],
             settings: InversionSettings::default(),
+            fft_heights: Default::default(),
+            appraisal: None,
         });
         p.save(&d).unwrap();
         let l = ProjectFile::load(&d).unwrap();
