@@ -963,8 +963,23 @@ fn depth_of_investigation(app: &mut FieldstoneApp, ui: &mut Ui) {
         ))
         .weak(),
     );
+    ui.label(
+        RichText::new("Shown clipped to 0–1: below 0 the second run moved a cell against the shift to keep the data fitted (the data decided it); cells carry the imprint of the shift's blocks, so read depth from the layer profile below.")
+            .small()
+            .weak(),
+    );
     let key = format!("doi-{name}-{}", run.file.summary.elapsed_s);
-    let r = slice_map(app, ui, &key, &doi, "index (dimensionless)", vec![]);
+    let clipped: Vec<f64> = doi
+        .iter()
+        .map(|v| if v.is_finite() { v.clamp(0.0, 1.0) } else { *v })
+        .collect();
+    let map_h = (ui.available_height() - 170.0).max(200.0);
+    let w = ui.available_width();
+    let r = ui
+        .allocate_ui(egui::vec2(w, map_h), |ui| {
+            slice_map(app, ui, &key, &clipped, "index (0 data, 1 reference)", vec![])
+        })
+        .inner;
     if let Some(c) = r.clicked {
         app.views.section_at = Some(c);
     }
