@@ -31,10 +31,8 @@ pub fn show(ui: &mut Ui, s: &mut Scenario, default_box: Option<DefaultBox>) {
     ui.separator();
     ui.label("FFT operator: where the gridded data sit");
     let mut draped = matches!(s.fft_heights, FftHeights::Draped { .. });
-    ui.horizontal(|ui| {
-        ui.radio_value(&mut draped, false, "level, at the highest station");
-        ui.radio_value(&mut draped, true, "draped on the terrain");
-    });
+    ui.radio_value(&mut draped, false, "level, at the highest station");
+    ui.radio_value(&mut draped, true, "draped on the terrain");
     s.fft_heights = match (draped, s.fft_heights) {
         (false, _) => FftHeights::Level,
         (true, FftHeights::Draped { order }) => {

@@ -977,7 +977,14 @@ fn depth_of_investigation(app: &mut FieldstoneApp, ui: &mut Ui) {
     let w = ui.available_width();
     let r = ui
         .allocate_ui(egui::vec2(w, map_h), |ui| {
-            slice_map(app, ui, &key, &clipped, "index (0 data, 1 reference)", vec![])
+            slice_map(
+                app,
+                ui,
+                &key,
+                &clipped,
+                "index (0 data, 1 reference)",
+                vec![],
+            )
         })
         .inner;
     if let Some(c) = r.clicked {
