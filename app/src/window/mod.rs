@@ -235,7 +235,7 @@ impl FieldstoneApp {
                 }
                 self.log.push(format!("opened {}", dir.display()));
                 if d.states.iter().all(|(_, st)| *st != StepState::Done) {
-                    self.log.push("nothing has been run in this project yet: check each step's form, then press 'Run every scenario' (the full demo takes about 10 minutes on two cores)".into());
+                    self.log.push("nothing has been run in this project yet: check each step's form, then press 'Run every scenario' (the full demo takes about 11 minutes on two cores)".into());
                 }
                 if self.remember_recent {
                     remember(&dir);
