@@ -4,7 +4,7 @@
 use fieldstone_core::constraint::build::{build, Assignments, ConstraintArrays, Defaults, Layer};
 use fieldstone_core::constraint::region::{Inputs, Region};
 use fieldstone_core::invert::appraise::{depth_of_investigation, doi_profile, feature_test, Hold};
-use fieldstone_core::invert::solver::{invert, Problem};
+use fieldstone_core::invert::solver::{invert, Problem, RunResult};
 use fieldstone_core::invert::{InversionSettings, Weighting};
 use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
@@ -203,6 +203,21 @@ fn case() -> Case {
     }
 }
 
+/// The block case without constraints (α_s = 1e-3) and its first run,
+/// handed to `f`.
+fn with_base_run(f: impl FnOnce(&Case, &Problem, &InversionSettings, &RunResult)) {
+    let c = case();
+    let k = constraints(&c.mesh, &[]);
+    let unc = vec![SIGMA; c.data.len()];
+    let pb = c.problem(&k, &unc);
+    let s = InversionSettings {
+        alpha_s: 1e-3,
+        ..Default::default()
+    };
+    let base = invert(&c.op, &pb, &s, &Silent).unwrap();
+    f(&c, &pb, &s, &base);
+}
+
 fn positive() -> Layer {
     Layer {
         name: "positive".into(),
@@ -224,40 +239,33 @@ fn positive() -> Layer {
 /// this test also guards that.
 #[test]
 fn the_index_grows_with_depth_for_gravity_data() {
-    let c = case();
-    let k = constraints(&c.mesh, &[]);
-    let unc = vec![SIGMA; c.data.len()];
-    let pb = c.problem(&k, &unc);
-    let s = InversionSettings {
-        alpha_s: 1e-3,
-        ..Default::default()
-    };
-    let base = invert(&c.op, &pb, &s, &Silent).unwrap();
-    let doi = depth_of_investigation(&c.op, &pb, &s, &base, 0.1, &Silent).unwrap();
-    let prof = doi_profile(&pb, &doi.normalised, 0.4);
-    let meds: Vec<f64> = prof.layers.iter().map(|l| l.1).collect();
-    assert_eq!(meds.len(), 8);
-    assert!(meds[0] < 0.3, "top layer median {meds:?}");
-    assert!(meds[7] > 0.5, "bottom layer median {meds:?}");
-    // Every layer of the lower half is less data-determined than every
-    // layer of the upper half.
-    let top_max = meds[..4].iter().cloned().fold(f64::MIN, f64::max);
-    let bottom_min = meds[4..].iter().cloned().fold(f64::MAX, f64::min);
-    assert!(
-        bottom_min > top_max,
-        "medians should rise with depth: {meds:?}"
-    );
-    assert!(prof.depth_m.is_some(), "{prof:?}");
-    assert!(prof.layers[0].0 > 0.0 && prof.layers[7].0 > prof.layers[0].0);
-    // Both runs fit the data.
-    for r in [&base, &doi.shifted] {
+    with_base_run(|c, pb, s, base| {
+        let doi = depth_of_investigation(&c.op, pb, s, base, 0.1, &Silent).unwrap();
+        let prof = doi_profile(pb, &doi.normalised, 0.4);
+        let meds: Vec<f64> = prof.layers.iter().map(|l| l.1).collect();
+        assert_eq!(meds.len(), 8);
+        assert!(meds[0] < 0.3, "top layer median {meds:?}");
+        assert!(meds[7] > 0.5, "bottom layer median {meds:?}");
+        // Every layer of the lower half is less data-determined than every
+        // layer of the upper half.
+        let top_max = meds[..4].iter().cloned().fold(f64::MIN, f64::max);
+        let bottom_min = meds[4..].iter().cloned().fold(f64::MAX, f64::min);
         assert!(
-            (r.summary.chi_factor - 1.0).abs() <= 0.021,
-            "{:?}",
-            r.summary
+            bottom_min > top_max,
+            "medians should rise with depth: {meds:?}"
         );
-    }
-    assert!(doi.index.iter().all(|v| v.is_finite()));
+        assert!(prof.depth_m.is_some(), "{prof:?}");
+        assert!(prof.layers[0].0 > 0.0 && prof.layers[7].0 > prof.layers[0].0);
+        // Both runs fit the data.
+        for r in [base, &doi.shifted] {
+            assert!(
+                (r.summary.chi_factor - 1.0).abs() <= 0.021,
+                "{:?}",
+                r.summary
+            );
+        }
+        assert!(doi.index.iter().all(|v| v.is_finite()));
+    });
 }
 
 /// Holding the columns under the block at zero (positivity everywhere) leaves
@@ -329,48 +337,41 @@ fn a_checkerboard_shift_shows_larger_structure_decided_deeper() {
     use fieldstone_core::invert::appraise::{
         depth_of_investigation_pattern, doi_shift, DoiPattern,
     };
-    let c = case();
-    let k = constraints(&c.mesh, &[]);
-    let unc = vec![SIGMA; c.data.len()];
-    let pb = c.problem(&k, &unc);
-    let s = InversionSettings {
-        alpha_s: 1e-3,
-        ..Default::default()
-    };
-    let base = invert(&c.op, &pb, &s, &Silent).unwrap();
-    let mut profiles = Vec::new();
-    for b in [50.0, 100.0] {
-        let (sh, block) = doi_shift(&pb, 0.1, DoiPattern::Checkerboard { block_m: Some(b) });
-        assert_eq!(block, Some(b));
-        // Half the free cells up, half down: no mean shift.
-        let up = sh.iter().filter(|v| **v > 0.0).count();
-        assert_eq!(2 * up, sh.len());
-        let doi = depth_of_investigation_pattern(&c.op, &pb, &s, &base, &sh, &Silent).unwrap();
-        assert!((doi.shifted.summary.chi_factor - 1.0).abs() <= 0.02);
-        assert!(
-            doi.data_level_shift.abs() < 1e-9,
-            "{}",
-            doi.data_level_shift
-        );
-        let meds: Vec<f64> = doi_profile(&pb, &doi.index, 0.4)
-            .layers
-            .iter()
-            .map(|l| l.1)
-            .collect();
-        assert!(meds[0].abs() < 0.1 && meds[7] > 0.85, "{b} m: {meds:?}");
-        assert!(
-            meds.windows(2).all(|w| w[1] > w[0] - 0.01),
-            "{b} m: {meds:?}"
-        );
-        profiles.push(meds);
-    }
-    for layer in 1..6 {
-        assert!(
-            profiles[1][layer] < profiles[0][layer] - 0.1,
-            "layer {layer}: {profiles:?}"
-        );
-    }
-    // The automatic block is a quarter of the core's shorter side.
-    let (_, auto) = doi_shift(&pb, 0.1, DoiPattern::Checkerboard { block_m: None });
-    assert_eq!(auto, Some(100.0));
+    with_base_run(|c, pb, s, base| {
+        let mut profiles = Vec::new();
+        for b in [50.0, 100.0] {
+            let (sh, block) = doi_shift(pb, 0.1, DoiPattern::Checkerboard { block_m: Some(b) });
+            assert_eq!(block, Some(b));
+            // Half the free cells up, half down: no mean shift.
+            let up = sh.iter().filter(|v| **v > 0.0).count();
+            assert_eq!(2 * up, sh.len());
+            let doi = depth_of_investigation_pattern(&c.op, pb, s, base, &sh, &Silent).unwrap();
+            assert!((doi.shifted.summary.chi_factor - 1.0).abs() <= 0.02);
+            assert!(
+                doi.data_level_shift.abs() < 1e-9,
+                "{}",
+                doi.data_level_shift
+            );
+            let meds: Vec<f64> = doi_profile(pb, &doi.index, 0.4)
+                .layers
+                .iter()
+                .map(|l| l.1)
+                .collect();
+            assert!(meds[0].abs() < 0.1 && meds[7] > 0.85, "{b} m: {meds:?}");
+            assert!(
+                meds.windows(2).all(|w| w[1] > w[0] - 0.01),
+                "{b} m: {meds:?}"
+            );
+            profiles.push(meds);
+        }
+        for layer in 1..6 {
+            assert!(
+                profiles[1][layer] < profiles[0][layer] - 0.1,
+                "layer {layer}: {profiles:?}"
+            );
+        }
+        // The automatic block is a quarter of the core's shorter side.
+        let (_, auto) = doi_shift(pb, 0.1, DoiPattern::Checkerboard { block_m: None });
+        assert_eq!(auto, Some(100.0));
+    });
 }

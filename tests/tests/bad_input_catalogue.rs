@@ -689,6 +689,44 @@ fn project_file_duplicate_scenario_names() {
     );
 }
 
+/// Appraisal settings the program cannot use are refused with the JSON path:
+/// a zero block side, a cut-off outside 0–1, two feature tests of one name.
+#[test]
+fn project_file_bad_appraisal_settings() {
+    use fieldstone_core::invert::appraise::DoiPattern;
+    let base = || {
+        let mut p = ProjectFile::new("appraise");
+        p.scenarios = fieldstone_core::demo::generate::demo_scenarios();
+        p
+    };
+    let mut p = base();
+    let a = p.scenarios[0].appraisal.as_mut().unwrap();
+    a.doi_pattern = DoiPattern::Checkerboard { block_m: Some(0.0) };
+    let t = serde_json::to_string_pretty(&p).unwrap();
+    names(
+        &project_err("block", t.as_bytes()),
+        PROJECT_FILE,
+        &["scenarios[0].appraisal.doi_pattern.block_m", "positive"],
+    );
+    let mut p = base();
+    p.scenarios[0].appraisal.as_mut().unwrap().doi_cutoff = 1.5;
+    let t = serde_json::to_string_pretty(&p).unwrap();
+    names(
+        &project_err("cutoff", t.as_bytes()),
+        PROJECT_FILE,
+        &["scenarios[0].appraisal.doi_cutoff", "between 0 and 1"],
+    );
+    let mut p = base();
+    let a = p.scenarios[0].appraisal.as_mut().unwrap();
+    a.feature_tests.push(a.feature_tests[0].clone());
+    let t = serde_json::to_string_pretty(&p).unwrap();
+    names(
+        &project_err("tests", t.as_bytes()),
+        PROJECT_FILE,
+        &["feature_tests[1].name", "twice"],
+    );
+}
+
 #[test]
 fn project_file_paths_that_leave_the_project() {
     let mut v: serde_json::Value = serde_json::from_str(&good_project_text()).unwrap();

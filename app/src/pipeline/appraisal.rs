@@ -7,10 +7,10 @@
 //! `held_<test>.npy` per feature test into the run folder.
 
 use super::data::write_text;
-use super::operator::prepare;
+use super::operator::scenario_setup;
 use super::run_dir;
 use super::safe_name;
-use super::steps::{constraints_of, load_model, prov, units_of, Context, RunFile, CAUTION};
+use super::steps::{load_model, prov, units_of, Context, RunFile, CAUTION};
 use fieldstone_core::constraint::region::membership;
 use fieldstone_core::export::voxel::{write_npy, write_vtr, CellArray};
 use fieldstone_core::invert::appraise::{
@@ -78,9 +78,7 @@ pub fn run(
     let Some(a) = &s.appraisal else {
         return Ok("nothing to appraise".into());
     };
-    let m = ctx.model(p)?;
-    let (c, _) = constraints_of(m, s)?;
-    let prep = prepare(dir, p, m, &c, s, obs)?;
+    let (m, c, prep) = scenario_setup(dir, p, ctx, s, obs)?;
     let pb = prep.problem(&m.mesh, &c);
     let rd = run_dir(dir, &s.name);
     // The run being appraised, as the inversion step wrote it.
@@ -106,7 +104,7 @@ pub fn run(
         summary: rf.summary,
     };
     let (mu, _) = units_of(s.data);
-    let nd = m.mesh.n_cells();
+    let n_mesh = m.mesh.n_cells();
     let mut out = AppraisalFile {
         scenario: s.name.clone(),
         model_units: mu.into(),
@@ -132,9 +130,9 @@ pub fn run(
         // where the reference did (the normalised index divides by the
         // largest value, which a few overshooting cells can set).
         let profile = doi_profile(&pb, &doi.index, a.doi_cutoff);
-        let mut norm_full = vec![f64::NAN; nd];
-        let mut raw_full = vec![f64::NAN; nd];
-        let mut shifted_full = vec![f64::NAN; nd];
+        let mut norm_full = vec![f64::NAN; n_mesh];
+        let mut raw_full = vec![f64::NAN; n_mesh];
+        let mut shifted_full = vec![f64::NAN; n_mesh];
         for (i, &k) in prep.active_idx.iter().enumerate() {
             norm_full[k] = doi.normalised[i];
             raw_full[k] = doi.index[i];
@@ -221,7 +219,7 @@ pub fn run(
             obs,
         )
         .map_err(|e| format!("feature test '{}': {e}", t.name))?;
-        let mut held_full = vec![f64::NAN; nd];
+        let mut held_full = vec![f64::NAN; n_mesh];
         for (i, &k) in prep.active_idx.iter().enumerate() {
             held_full[k] = held.model[i];
         }

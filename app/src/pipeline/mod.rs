@@ -215,6 +215,8 @@ pub fn plan(dir: &Path, p: &ProjectFile) -> Result<Plan, String> {
         let c_in = vec![("upstream".into(), mesh_fp.clone())];
         let c_fp = fingerprint(&c_in, &c_params);
         let i_in = vec![("upstream".into(), c_fp)];
+        // The default heights leave the hash as it was before the field
+        // existed, so runs recorded then stay up to date.
         let i_params = if s.fft_heights == Default::default() {
             hash_json(&(&s.settings, s.operator, s.data, p.inducing_field))
         } else {

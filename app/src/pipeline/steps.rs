@@ -1,7 +1,7 @@
 //! The work of each pipeline step.
 
 use super::data::{load_points, write_points, write_text, Points};
-use super::operator::prepare;
+use super::operator::scenario_setup;
 use super::{at, run_dir};
 use crate::commands::grid::{GridArgs, Method};
 use crate::commands::reduce::{EllipsoidArg, FreeAirArg, GravityArgs, MagneticArgs};
@@ -734,9 +734,7 @@ fn inversion(
     s: &Scenario,
     obs: &dyn Observer,
 ) -> Result<String, String> {
-    let m = ctx.model(p)?;
-    let (c, _) = constraints_of(m, s)?;
-    let prep = prepare(dir, p, m, &c, s, obs)?;
+    let (m, c, prep) = scenario_setup(dir, p, ctx, s, obs)?;
     let pb = prep.problem(&m.mesh, &c);
     let result = invert(&prep.op, &pb, &s.settings, obs).map_err(|e| e.to_string())?;
     let (data_used, active_idx) = (&prep.data, &prep.active_idx);

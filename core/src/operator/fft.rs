@@ -533,20 +533,22 @@ impl FftOperator {
     }
 
     /// The operator's rows against exact rows (`exact(d)` over the active
-    /// cells) at the data `sample`.
+    /// cells) at the data `sample`; data without an exact row (`None`) are
+    /// left out of the count.
     pub fn compare_rows(
         &self,
         sample: &[usize],
-        mut exact: impl FnMut(usize) -> Vec<f64>,
+        mut exact: impl FnMut(usize) -> Option<Vec<f64>>,
     ) -> RowCheck {
         let mut errs: Vec<(f64, usize)> = sample
             .iter()
             .filter(|&&d| d < self.n_data())
-            .map(|&d| {
-                let (a, b) = (self.row(d), exact(d));
+            .filter_map(|&d| {
+                let b = exact(d)?;
+                let a = self.row(d);
                 let num: f64 = a.iter().zip(&b).map(|(x, y)| (x - y).powi(2)).sum();
                 let den: f64 = b.iter().map(|y| y * y).sum();
-                ((num / den.max(1e-300)).sqrt(), d)
+                Some(((num / den.max(1e-300)).sqrt(), d))
             })
             .collect();
         errs.sort_by(|a, b| a.0.total_cmp(&b.0));

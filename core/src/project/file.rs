@@ -448,6 +448,16 @@ impl ProjectFile {
                         ));
                     }
                 }
+                if let crate::invert::appraise::DoiPattern::Checkerboard { block_m: Some(b) } =
+                    a.doi_pattern
+                {
+                    if !(b.is_finite() && b > 0.0) {
+                        return Err(invalid(
+                            format!("scenarios[{k}].appraisal.doi_pattern.block_m"),
+                            format!("the block side must be a positive length in metres (got {b})"),
+                        ));
+                    }
+                }
                 if !(a.doi_cutoff > 0.0 && a.doi_cutoff < 1.0) {
                     return Err(invalid(
                         format!("scenarios[{k}].appraisal.doi_cutoff"),
