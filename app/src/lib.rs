@@ -1,6 +1,9 @@
-//! The `fieldstone` program: the project window and the headless commands,
-//! over `fieldstone-core`.
+//! The `fieldstone` program: the command line and, with the default `gui`
+//! feature, the project window; both over `fieldstone-pipeline` and
+//! `fieldstone-core`.
 
 pub mod commands;
-pub mod pipeline;
+#[cfg(feature = "gui")]
 pub mod window;
+
+pub use fieldstone_pipeline as pipeline;

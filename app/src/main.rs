@@ -45,6 +45,18 @@ enum Command {
     Run(commands::run::RunArgs),
 }
 
+/// Opens the project window (the bundled demo when no project is given).
+#[cfg(feature = "gui")]
+fn open_window(project: Option<&std::path::Path>) -> commands::CliResult {
+    fieldstone::window::open(project).map_err(commands::CliError::from)
+}
+
+/// A headless build has no window: say so and how to use it.
+#[cfg(not(feature = "gui"))]
+fn open_window(_project: Option<&std::path::Path>) -> commands::CliResult {
+    Err("this fieldstone was built without the project window (no `gui` feature); give a command, e.g. `fieldstone run PROJECT_DIR`, or see `fieldstone --help`".into())
+}
+
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let result = match cli.command {
@@ -58,13 +70,13 @@ fn main() -> ExitCode {
         Some(Command::Run(args)) => commands::run::run(&args),
         Some(Command::Constraints(args)) => commands::constraints::run(&args),
         Some(Command::Export(args)) => commands::export::run(&args),
-        None => fieldstone::window::open(cli.project.as_deref()),
+        None => open_window(cli.project.as_deref()),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
-        Err(message) => {
-            eprintln!("error: {message}");
-            ExitCode::FAILURE
+        Err(e) => {
+            eprintln!("error: {e}");
+            ExitCode::from(e.exit_code())
         }
     }
 }

@@ -64,6 +64,22 @@ fn the_demo_runs_end_to_end_fits_honours_bounds_and_reproduces() {
     );
     let p = ProjectFile::load(&dir).unwrap().project;
     assert!(p.scenarios.len() >= 4);
+    // The models are bit for bit those of the program before the pipeline
+    // moved into its own crate (fixture and the script that made it in
+    // tests/fixtures/small_demo_models_sha256.*).
+    let fixture: serde_json::Value = serde_json::from_str(include_str!(
+        "../../tests/fixtures/small_demo_models_sha256.json"
+    ))
+    .unwrap();
+    for s in &p.scenarios {
+        let bytes = std::fs::read(dir.join("runs").join(&s.name).join("model.npy")).unwrap();
+        assert_eq!(
+            fieldstone_core::project::provenance::hash_bytes(&bytes),
+            fixture["sha256"][&s.name].as_str().unwrap(),
+            "{}: the model is not the one the program made before",
+            s.name
+        );
+    }
     let m = load_model_context(&dir, &p).unwrap();
     for s in &p.scenarios {
         let r = summary(&dir, &s.name);

@@ -19,16 +19,14 @@ pub struct ConstraintsArgs {
     pub out: PathBuf,
 }
 
-struct Quiet;
-impl fieldstone_core::progress::Observer for Quiet {
-    fn message(&self, text: &str) {
-        eprintln!("{text}");
-    }
-}
-
-pub fn run(a: &ConstraintsArgs) -> Result<(), String> {
+pub fn run(a: &ConstraintsArgs) -> super::CliResult {
     // The mesh needs the shared steps (terrain, data extent); run what is stale.
-    pipeline::run(&a.project_dir, &Selection::None, false, &Quiet)?;
+    pipeline::run(
+        &a.project_dir,
+        &Selection::None,
+        false,
+        &super::Stderr::default(),
+    )?;
     let p = ProjectFile::load(&a.project_dir)
         .map_err(|e| e.to_string())?
         .project;
@@ -48,7 +46,8 @@ pub fn run(a: &ConstraintsArgs) -> Result<(), String> {
                 .map(|s| s.name.as_str())
                 .collect::<Vec<_>>()
                 .join(", ")
-        ));
+        )
+        .into());
     }
     let pv = pipeline::prov(&p, "mesh recipe of project.json", "m");
     let mut report = Vec::new();

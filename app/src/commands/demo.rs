@@ -22,7 +22,7 @@ impl Observer for Printer {
     }
 }
 
-pub fn run(a: &DemoArgs) -> Result<(), String> {
+pub fn run(a: &DemoArgs) -> super::CliResult {
     std::fs::create_dir_all(&a.out_dir).map_err(|e| format!("{}: {e}", a.out_dir.display()))?;
     let size = if a.small {
         DemoSize::Small

@@ -165,13 +165,16 @@ fn write_figure(
     fig: &fieldstone_core::export::figure::Figure,
     f: Format,
     dpi: f64,
-) -> Result<(), String> {
+) -> super::CliResult {
     let bytes = if f == Format::Png {
         fig.png_at_dpi(dpi)
     } else {
         fig.svg().into_bytes()
     };
-    fieldstone_core::io::atomic::write_bytes_atomically(out, &bytes).map_err(|e| e.to_string())
+    Ok(
+        fieldstone_core::io::atomic::write_bytes_atomically(out, &bytes)
+            .map_err(|e| e.to_string())?,
+    )
 }
 
 fn level_text(l: SliceLevel) -> String {
@@ -214,7 +217,7 @@ fn grid_units(stem: &str, g: &fieldstone_core::grid::Grid2) -> String {
     }
 }
 
-pub fn run(a: &ExportArgs) -> Result<(), String> {
+pub fn run(a: &ExportArgs) -> super::CliResult {
     let p = ProjectFile::load(&a.project_dir)
         .map_err(|e| e.to_string())?
         .project;
@@ -435,7 +438,7 @@ pub fn run(a: &ExportArgs) -> Result<(), String> {
             }
             eprintln!("{n} grids written");
         }
-        (w, f) => return Err(refuse(w, f)),
+        (w, f) => return Err(refuse(w, f).into()),
     }
     eprintln!(
         "export: {:?} of '{}' -> {}",

@@ -72,12 +72,13 @@ pub struct FilterArgs {
     pub subtract: Option<PathBuf>,
 }
 
-pub fn run(a: &FilterArgs) -> Result<(), String> {
+pub fn run(a: &FilterArgs) -> super::CliResult {
     if a.input == a.out {
         return Err(format!(
             "--out {} is the input grid; choose another name so the input is kept",
             a.out.display()
-        ));
+        )
+        .into());
     }
     let g = read_geotiff(&a.input).map_err(|e| e.to_string())?;
     let out = if let Some(order) = a.trend {
@@ -129,7 +130,8 @@ pub fn run(a: &FilterArgs) -> Result<(), String> {
             if parts.len() != 2 {
                 return Err(format!(
                     "--band-pass '{spec}': give two wavelengths in metres, LONG,SHORT"
-                ));
+                )
+                .into());
             }
             Filter::BandPass {
                 long_wavelength_m: parts[0],
@@ -139,7 +141,7 @@ pub fn run(a: &FilterArgs) -> Result<(), String> {
         };
         apply(&g, &f, &Silent).map_err(|e| e.to_string())?
     };
-    super::grid::write_grid(&a.out, &out)?;
+    fieldstone_pipeline::gridding::write_grid(&a.out, &out)?;
     eprintln!(
         "filter: {} -> {} ({})",
         a.input.display(),

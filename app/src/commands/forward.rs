@@ -26,13 +26,14 @@ pub struct ForwardArgs {
 const GRAVITY_COLUMNS: [&str; 1] = ["gz_mgal"];
 const ALL_COLUMNS: [&str; 5] = ["gz_mgal", "bx_nt", "by_nt", "bz_nt", "tmi_nt"];
 
-pub fn run(args: &ForwardArgs) -> Result<(), String> {
+pub fn run(args: &ForwardArgs) -> super::CliResult {
     let start = Instant::now();
     if same_file(&args.out, &args.stations) || same_file(&args.out, &args.bodies) {
         return Err(format!(
             "--out {} is one of the input files; choose another name so the input is kept",
             args.out.display()
-        ));
+        )
+        .into());
     }
     let body_file = bodies::read_body_file(&args.bodies).map_err(|e| e.to_string())?;
     for note in &body_file.notes {

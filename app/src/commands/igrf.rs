@@ -19,7 +19,7 @@ pub struct IgrfArgs {
     pub date: String,
 }
 
-pub fn run(a: &IgrfArgs) -> Result<(), String> {
+pub fn run(a: &IgrfArgs) -> super::CliResult {
     let year = decimal_year_of_date(&a.date).map_err(|e| format!("--date: {e}"))?;
     let f = IgrfModel::igrf14()
         .field(a.lat, a.lon, a.height_m, year)

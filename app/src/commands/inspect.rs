@@ -30,7 +30,7 @@ pub struct InspectArgs {
     pub dummy: Option<f64>,
 }
 
-pub fn run(args: &InspectArgs) -> Result<(), String> {
+pub fn run(args: &InspectArgs) -> super::CliResult {
     let delimiter = match &args.delimiter {
         Some(d) => Some(Delimiter::parse(d).ok_or_else(|| {
             format!("--delimiter '{d}' is not one of: comma, tab, semicolon, whitespace")

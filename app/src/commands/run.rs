@@ -1,9 +1,8 @@
 //! `fieldstone run PROJECT_DIR [--scenario NAME] [--all-scenarios] [--force]`
 
-use crate::pipeline::{run as run_pipeline, Selection};
+use super::Stderr;
 use clap::Args;
-use fieldstone_core::invert::IterationRecord;
-use fieldstone_core::progress::Observer;
+use fieldstone_pipeline::{run as run_pipeline, Selection};
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
@@ -24,31 +23,18 @@ pub struct RunArgs {
     pub verbose: bool,
 }
 
-struct Lines {
-    verbose: bool,
-}
-
-impl Observer for Lines {
-    fn message(&self, text: &str) {
-        eprintln!("{text}");
-    }
-    fn iteration(&self, r: &IterationRecord) {
-        if self.verbose {
-            eprintln!(
-                "    iteration {:>3}: beta {:.3e}  phi_d {:.4e}  phi_m {:.4e}  chi {:.3}  CG {}  at bounds {}/{}",
-                r.iteration, r.beta, r.phi_d, r.phi_m, r.chi_factor, r.cg_iterations, r.at_lower, r.at_upper
-            );
-        }
-    }
-}
-
-pub fn run(a: &RunArgs) -> Result<(), String> {
+pub fn run(a: &RunArgs) -> super::CliResult {
     let sel = match (&a.scenario, a.all_scenarios) {
         (Some(n), _) => Selection::Named(n.clone()),
         (None, true) => Selection::All,
         (None, false) => Selection::First,
     };
-    let r = run_pipeline(&a.project_dir, &sel, a.force, &Lines { verbose: a.verbose })?;
+    let r = run_pipeline(
+        &a.project_dir,
+        &sel,
+        a.force,
+        &Stderr { verbose: a.verbose },
+    )?;
     eprintln!(
         "run: {} steps ran, {} up to date",
         r.ran(),

@@ -3,6 +3,7 @@
 
 use fieldstone_core::invert::IterationRecord;
 use fieldstone_core::progress::Observer;
+use fieldstone_pipeline::{Error, Events, StepEvent};
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc::{channel, Receiver, Sender};
 use std::sync::Arc;
@@ -14,7 +15,27 @@ pub enum Event {
     Line(String),
     Iteration(IterationRecord),
     Progress(usize, usize),
-    Finished(Result<String, String>),
+    Finished(Result<String, Failure>),
+}
+
+/// Why a job ended without its result: the message, the step that failed
+/// (from the pipeline's typed error, not from the text) and whether the
+/// user cancelled.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Failure {
+    pub message: String,
+    pub step: Option<String>,
+    pub cancelled: bool,
+}
+
+impl From<Error> for Failure {
+    fn from(e: Error) -> Failure {
+        Failure {
+            message: e.to_string(),
+            step: e.step().map(str::to_string),
+            cancelled: e.is_cancelled(),
+        }
+    }
 }
 
 struct Reporter {
@@ -49,6 +70,12 @@ impl Observer for Reporter {
     }
 }
 
+impl Events for Reporter {
+    fn step(&self, event: &StepEvent<'_>) {
+        self.send(Event::Line(event.line()));
+    }
+}
+
 /// A running (or finished) job.
 pub struct Job {
     pub title: String,
@@ -58,7 +85,7 @@ pub struct Job {
     pub lines: Vec<String>,
     pub iterations: Vec<IterationRecord>,
     pub progress: Option<(usize, usize)>,
-    pub result: Option<Result<String, String>>,
+    pub result: Option<Result<String, Failure>>,
     handle: Option<std::thread::JoinHandle<()>>,
 }
 
@@ -67,7 +94,7 @@ impl Job {
     pub fn start(
         title: &str,
         ctx: Option<egui::Context>,
-        work: impl FnOnce(&dyn Observer) -> Result<String, String> + Send + 'static,
+        work: impl FnOnce(&dyn Events) -> Result<String, Error> + Send + 'static,
     ) -> Job {
         let (tx, rx) = channel();
         let cancel = Arc::new(AtomicBool::new(false));
@@ -78,8 +105,8 @@ impl Job {
         };
         let handle = std::thread::spawn(move || {
             let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| work(&rep)))
-                .unwrap_or_else(|_| Err("the job stopped on an internal error; the project on disk is as it was after the last finished step".into()));
-            rep.send(Event::Finished(r));
+                .unwrap_or_else(|_| Err(Error::internal("the job stopped on an internal error; the project on disk is as it was after the last finished step")));
+            rep.send(Event::Finished(r.map_err(Failure::from)));
         });
         Job {
             title: title.to_string(),

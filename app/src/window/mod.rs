@@ -143,35 +143,75 @@ fn remember(dir: &Path) {
     let _ = crate::pipeline::write_text(&f, &serde_json::to_string_pretty(&v).unwrap_or_default());
 }
 
-/// The bundled demo project: `demo-data/harrow-fen` beside the working
-/// folder or the program; written afresh into the user's folder when neither
-/// exists.
+/// The demo project the window opens: a working copy in the user's folder
+/// (`<config>/fieldstone/harrow-fen`), so running it never rewrites the
+/// bundled `demo-data/harrow-fen` (which stays as shipped). The copy is made
+/// from the bundled project, found beside the working folder or the
+/// program, or written afresh when neither exists.
 pub fn demo_project() -> Result<PathBuf, String> {
+    let d = config_file()
+        .and_then(|f| f.parent().map(|p| p.join("harrow-fen")))
+        .ok_or("no folder to put the demo project in (neither APPDATA, XDG_CONFIG_HOME nor HOME is set)")?;
+    if d.join("project.json").exists() {
+        return Ok(d);
+    }
     let mut candidates = vec![PathBuf::from("demo-data/harrow-fen")];
     if let Ok(exe) = std::env::current_exe() {
         for up in exe.ancestors().skip(1).take(4) {
             candidates.push(up.join("demo-data/harrow-fen"));
         }
     }
-    if let Some(d) = candidates
+    match candidates
         .into_iter()
-        .find(|d| d.join("project.json").exists())
+        .find(|c| c.join("project.json").exists())
     {
-        return Ok(d);
-    }
-    let d = config_file()
-        .and_then(|f| f.parent().map(|p| p.join("harrow-fen")))
-        .ok_or("no folder to write the demo project into")?;
-    if !d.join("project.json").exists() {
-        std::fs::create_dir_all(&d).map_err(|e| format!("{}: {e}", d.display()))?;
-        fieldstone_core::demo::write_demo(
-            &d,
-            fieldstone_core::demo::DemoSize::Full,
-            &fieldstone_core::progress::Silent,
-        )
-        .map_err(|e| e.to_string())?;
+        Some(bundled) => copy_project(&bundled, &d)?,
+        None => {
+            std::fs::create_dir_all(&d).map_err(|e| format!("{}: {e}", d.display()))?;
+            fieldstone_core::demo::write_demo(
+                &d,
+                fieldstone_core::demo::DemoSize::Full,
+                &fieldstone_core::progress::Silent,
+            )
+            .map_err(|e| e.to_string())?;
+        }
     }
     Ok(d)
+}
+
+/// Copies a project folder's own files (not what running it made: `data/`,
+/// `runs/`, undo snapshots, autosaves) into `to`, project.json last so a
+/// copy cut short is not taken for a project.
+fn copy_project(from: &Path, to: &Path) -> Result<(), String> {
+    fn walk(from: &Path, to: &Path, top: bool) -> Result<(), String> {
+        std::fs::create_dir_all(to).map_err(|e| format!("{}: {e}", to.display()))?;
+        for e in std::fs::read_dir(from).map_err(|e| format!("{}: {e}", from.display()))? {
+            let e = e.map_err(|e| format!("{}: {e}", from.display()))?;
+            let name = e.file_name();
+            let n = name.to_string_lossy();
+            if top
+                && (n == "data"
+                    || n == "runs"
+                    || n == "project.json"
+                    || n.starts_with(".autosave")
+                    || n == fieldstone_core::io::undo::STORE)
+            {
+                continue;
+            }
+            let (src, dst) = (e.path(), to.join(&name));
+            if src.is_dir() {
+                walk(&src, &dst, false)?;
+            } else {
+                std::fs::copy(&src, &dst).map_err(|e| format!("{}: {e}", src.display()))?;
+            }
+        }
+        Ok(())
+    }
+    walk(from, to, true)?;
+    let p = from.join("project.json");
+    let text = std::fs::read(&p).map_err(|e| format!("{}: {e}", p.display()))?;
+    fieldstone_core::io::atomic::write_bytes_atomically(&to.join("project.json"), &text)
+        .map_err(|e| e.to_string())
 }
 
 impl FieldstoneApp {
@@ -301,11 +341,9 @@ impl FieldstoneApp {
             match r {
                 Ok(m) => self.log.push(format!("{} finished: {m}", job.title)),
                 Err(e) => {
-                    self.failed_step = e
-                        .strip_prefix("step ")
-                        .and_then(|s| s.split(':').next())
-                        .map(|s| s.to_string());
-                    self.log.push(format!("{} failed: {e}", job.title));
+                    self.failed_step = e.step.clone();
+                    let how = if e.cancelled { "stopped" } else { "failed" };
+                    self.log.push(format!("{} {how}: {}", job.title, e.message));
                 }
             }
             let iterations = std::mem::take(&mut job.iterations);
@@ -531,22 +569,8 @@ impl FieldstoneApp {
     fn save_as(&mut self, to: &Path) {
         let Some(d) = self.doc.as_ref() else { return };
         // Copy the inputs the project names, then write the project there.
-        let mut files = vec![];
         let p = &d.project;
-        files.extend(p.gravity.as_ref().map(|g| g.file.clone()));
-        if let Some(m) = &p.magnetic {
-            files.push(m.file.clone());
-            files.extend(m.base_file.clone());
-        }
-        files.extend(p.dem.clone());
-        if let Some(h) = &p.drill_holes {
-            files.push(h.collars.clone());
-            files.extend(h.surveys.clone());
-            files.extend(h.intervals.clone());
-        }
-        files.extend(p.surfaces.iter().map(|s| s.file.clone()));
-        files.extend(p.wireframes.iter().map(|s| s.file.clone()));
-        files.extend(p.truth.clone());
+        let files = p.input_files();
         for f in files {
             let (Ok(a), Ok(b)) = (pipeline::at(&d.dir, &f), pipeline::at(to, &f)) else {
                 continue;

@@ -163,7 +163,7 @@ impl Doc {
             return Ok(());
         }
         let text = serde_json::to_string_pretty(&self.project).map_err(|e| e.to_string())?;
-        crate::pipeline::write_text(&autosave_path(&self.dir), &text)
+        crate::pipeline::write_text(&autosave_path(&self.dir), &text).map_err(String::from)
     }
 
     /// The step states as they stand now.
@@ -190,6 +190,7 @@ impl Doc {
         if let Some(g) = &p.gravity {
             note(
                 at(dir, &g.file)
+                    .map_err(String::from)
                     .and_then(|f| Readings::load(&f))
                     .map(|r| v.gravity_raw = Some(r)),
             );
@@ -205,6 +206,7 @@ impl Doc {
         if let Some(d) = &p.dem {
             note(
                 at(dir, d)
+                    .map_err(String::from)
                     .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
                     .map(|g| {
                         v.grids.insert("terrain".into(), g);
@@ -214,6 +216,7 @@ impl Doc {
         for s in &p.surfaces {
             note(
                 at(dir, &s.file)
+                    .map_err(String::from)
                     .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
                     .map(|g| {
                         v.grids.insert(s.name.clone(), g);
@@ -279,7 +282,7 @@ impl Doc {
                 }
                 v.model = Some(m);
             }
-            Err(e) => v.problems.push(e),
+            Err(e) => v.problems.push(e.to_string()),
         }
         self.views = v;
     }

@@ -23,7 +23,7 @@ use crate::reduce::gravity::{reduce_station, GravitySettings};
 use crate::reduce::magnetic::mean_inducing_field;
 use crate::reduce::terrain::{terrain_corrections, TerrainSettings};
 use crate::reduce::tide::tide_effect_mgal;
-use crate::survey::time::{format_iso, parse_datetime, DateOrder};
+use crate::time::{format_iso, parse_datetime, DateOrder};
 use rayon::prelude::*;
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};

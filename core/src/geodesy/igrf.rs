@@ -356,7 +356,7 @@ impl FieldAtDate<'_> {
 /// Decimal year of a civil date and time of day (UTC): year + (day of year − 1
 /// + fraction of day) / days in the year.
 pub fn decimal_year(year: i64, month: u32, day: u32, seconds_of_day: f64) -> f64 {
-    use crate::survey::time::days_from_civil;
+    use crate::time::days_from_civil;
     let start = days_from_civil(year, 1, 1);
     let len = days_from_civil(year + 1, 1, 1) - start;
     let doy = days_from_civil(year, month, day) - start;
@@ -366,13 +366,13 @@ pub fn decimal_year(year: i64, month: u32, day: u32, seconds_of_day: f64) -> f64
 /// Decimal year of a time in seconds since 1970-01-01 UTC.
 pub fn decimal_year_of_epoch_seconds(t_s: f64) -> f64 {
     let days = (t_s / 86_400.0).floor();
-    let (y, m, d) = crate::survey::time::civil_from_days(days as i64);
+    let (y, m, d) = crate::time::civil_from_days(days as i64);
     decimal_year(y, m, d, t_s - days * 86_400.0)
 }
 
 /// Parses YYYY-MM-DD to a decimal year (at 00:00 UTC).
 pub fn decimal_year_of_date(text: &str) -> Result<f64, IgrfError> {
-    let days = crate::survey::time::parse_date(text, crate::survey::time::DateOrder::YearMonthDay)
+    let days = crate::time::parse_date(text, crate::time::DateOrder::YearMonthDay)
         .map_err(|_| IgrfError::Date(text.to_string()))?;
     Ok(decimal_year_of_epoch_seconds(days as f64 * 86_400.0))
 }

@@ -39,7 +39,7 @@ fn next_round(v: f64) -> f64 {
 /// number (1, 2 or 5 × 10ⁿ) near range / n.
 pub fn suggested_interval(g: &Grid2, n: usize) -> Option<f64> {
     let (lo, hi) = g.value_range();
-    (hi > lo).then(|| crate::export::figure::round_below((hi - lo) / n.max(1) as f64))
+    (hi > lo).then(|| crate::numeric::round_below((hi - lo) / n.max(1) as f64))
 }
 
 /// The interval used and each contour line with its level.

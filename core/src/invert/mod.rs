@@ -74,24 +74,7 @@ impl Default for InversionSettings {
     }
 }
 
-/// One row of the run log.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-pub struct IterationRecord {
-    pub iteration: usize,
-    pub beta: f64,
-    pub phi_d: f64,
-    pub phi_m: f64,
-    pub phi_s: f64,
-    pub phi_x: f64,
-    pub phi_y: f64,
-    pub phi_z: f64,
-    pub chi_factor: f64,
-    pub cg_iterations: usize,
-    pub at_lower: usize,
-    pub at_upper: usize,
-    pub epsilon: Option<f64>,
-    pub elapsed_s: f64,
-}
+pub use crate::progress::IterationRecord;
 
 /// The summary written with every run.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]

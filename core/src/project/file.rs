@@ -355,14 +355,11 @@ impl ProjectFile {
         })
     }
 
-    /// What the schema cannot say: every file the project names lies inside
-    /// its folder, and scenario, surface and wireframe names are unique.
-    pub fn validate(&self, file: &Path) -> Result<(), ProjectError> {
-        let invalid = |field: String, message: String| ProjectError::Invalid {
-            file: file.to_path_buf(),
-            field,
-            message,
-        };
+    /// Every file the project names, with the field that names it
+    /// (`gravity.file`, `surfaces[2].file`, …), in a fixed order: survey
+    /// imports, gravity, magnetic and its base record, terrain, drill-hole
+    /// tables, surfaces, wireframes, the invented truth.
+    pub fn named_files(&self) -> Vec<(String, &str)> {
         let mut paths: Vec<(String, &str)> = Vec::new();
         for (k, i) in self.imports.iter().enumerate() {
             paths.push((format!("imports[{k}].file"), &i.file));
@@ -399,6 +396,29 @@ impl ProjectFile {
         if let Some(t) = &self.truth {
             paths.push(("truth".into(), t));
         }
+        paths
+    }
+
+    /// The project-relative input files the steps read (every named file
+    /// but the import records, which the survey fields repeat): the import
+    /// step hashes them, "Save as" copies them.
+    pub fn input_files(&self) -> Vec<String> {
+        self.named_files()
+            .into_iter()
+            .filter(|(field, _)| !field.starts_with("imports["))
+            .map(|(_, f)| f.to_string())
+            .collect()
+    }
+
+    /// What the schema cannot say: every file the project names lies inside
+    /// its folder, and scenario, surface and wireframe names are unique.
+    pub fn validate(&self, file: &Path) -> Result<(), ProjectError> {
+        let invalid = |field: String, message: String| ProjectError::Invalid {
+            file: file.to_path_buf(),
+            field,
+            message,
+        };
+        let paths = self.named_files();
         for (field, rel) in paths {
             crate::project::paths::resolve_inside(Path::new(""), rel)
                 .map_err(|e| invalid(field, e.to_string()))?;

@@ -66,7 +66,7 @@ pub fn diurnal(
     datum_nt: Option<f64>,
     max_gap_s: f64,
 ) -> Result<(Vec<f64>, usize), DiurnalError> {
-    let fmt = crate::survey::time::format_iso;
+    let fmt = crate::time::format_iso;
     let (b0, b1) = (base.t_s[0], base.t_s[base.t_s.len() - 1]);
     let (s0, s1) = times_s
         .iter()

@@ -4,11 +4,11 @@
 
 use super::columns::{guess_column, ColumnSpec, Role, Unit};
 use super::lines::{lines_from_column, split_lines, SplitRule, SurveyLine};
-use super::time::{parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat};
 use crate::geodesy::crs::{Crs, CrsError};
 use crate::table::read::read_table;
 use crate::table::sniff::sniff;
 use crate::table::{ColumnData, ColumnKind, TableError, TextOptions};
+use crate::time::{parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::io::Read;

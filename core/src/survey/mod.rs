@@ -14,4 +14,5 @@ pub mod columns;
 pub mod import;
 pub mod lines;
 pub mod qc;
-pub mod time;
+/// Dates and times (a utility below the survey; kept here by its old path).
+pub use crate::time;

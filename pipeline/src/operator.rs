@@ -5,8 +5,11 @@
 //! appraisal reruns see exactly the operator and data of the run they
 //! appraise.
 
-use super::data::Points;
-use super::steps::{constraints_of, data_path, scenario_data, Context, ModelContext};
+use crate::context::{Context, ModelContext};
+use crate::data::{scenario_data, Points};
+use crate::error::Result;
+use crate::paths::data_path;
+use crate::steps::constraints::constraints_of;
 use fieldstone_core::constraint::build::ConstraintArrays;
 use fieldstone_core::grid::geotiff::read_geotiff;
 use fieldstone_core::invert::solver::Problem;
@@ -100,14 +103,14 @@ impl Prepared {
     }
 }
 
-pub fn survey_of(p: &ProjectFile, s: &Scenario) -> Result<Survey, String> {
+pub fn survey_of(p: &ProjectFile, s: &Scenario) -> Result<Survey> {
     Ok(match s.data {
         DataKind::Gravity => Survey::Gravity,
         DataKind::Magnetic => Survey::Magnetic(p.inducing_field.ok_or("a magnetic scenario needs the project's inducing field (intensity, inclination, declination)")?),
     })
 }
 
-fn choose(s: &Scenario, m: &ModelContext, n_data: usize) -> Result<OperatorChoice, String> {
+fn choose(s: &Scenario, m: &ModelContext, n_data: usize) -> Result<OperatorChoice> {
     let n_act = m.active.count();
     let avail = available_or_assumed();
     let dense_fits = (n_data as u64 * n_act as u64 * 4) <= avail / 2;
@@ -116,7 +119,7 @@ fn choose(s: &Scenario, m: &ModelContext, n_data: usize) -> Result<OperatorChoic
         OperatorChoice::Automatic if m.mesh.uniform_horizontal() => OperatorChoice::Fft,
         OperatorChoice::Automatic => {
             let e = estimate(m.mesh.n_cells(), n_act, n_data, Some(avail));
-            return Err(format!("the dense sensitivity ({:.1} GB) does not fit in half the {:.1} GB available, and the mesh has expanding padding so the FFT operator cannot be used. {}", e.dense_bytes as f64 / 1e9, avail as f64 / 1e9, e.advice.join("; ")));
+            return Err(format!("the dense sensitivity ({:.1} GB) does not fit in half the {:.1} GB available, and the mesh has expanding padding so the FFT operator cannot be used. {}", e.dense_bytes as f64 / 1e9, avail as f64 / 1e9, e.advice.join("; ")).into());
         }
         other => other,
     })
@@ -206,7 +209,7 @@ pub fn scenario_setup<'c>(
     ctx: &'c mut Context,
     s: &Scenario,
     obs: &dyn Observer,
-) -> Result<(&'c ModelContext, ConstraintArrays, Prepared), String> {
+) -> Result<(&'c ModelContext, ConstraintArrays, Prepared)> {
     let m = ctx.model(p)?;
     let (c, _) = constraints_of(m, s)?;
     let prep = prepare(dir, p, m, &c, s, obs)?;
@@ -221,7 +224,7 @@ pub fn prepare(
     c: &ConstraintArrays,
     s: &Scenario,
     obs: &dyn Observer,
-) -> Result<Prepared, String> {
+) -> Result<Prepared> {
     let pts = scenario_data(dir, s)?;
     let survey = survey_of(p, s)?;
     let active_idx: Vec<usize> = (0..m.mesh.n_cells()).filter(|&k| c.active[k]).collect();
@@ -289,8 +292,7 @@ pub fn prepare(
                 &mask,
                 survey,
                 available_or_assumed(),
-            )
-            .map_err(|e| e.to_string())?;
+            )?;
             let check = check_rows(&op, &m.mesh, &active_idx, &d, &draped, survey);
             let line = format!(
                 "FFT rows against exact rows at the data's own heights ({} sample data): median {:.2} %, worst {:.2} % (datum {})",
@@ -302,9 +304,9 @@ pub fn prepare(
             obs.message(&format!("  {line}"));
             notes.push(line);
             if check.max_relative_error > ROW_ERROR_WARNING {
-                let w = format!("warning: the FFT operator's rows differ from the exact ones by up to {:.1} %; use draped heights of a higher order, or the dense operator", 100.0 * check.max_relative_error);
-                obs.message(&format!("  {w}"));
-                notes.push(w);
+                let w = format!("the FFT operator's rows differ from the exact ones by up to {:.1} %; use draped heights of a higher order, or the dense operator", 100.0 * check.max_relative_error);
+                obs.warning(&w);
+                notes.push(format!("warning: {w}"));
             }
             Ok(Prepared {
                 op: ScenarioOperator::Fft(Box::new(op)),
@@ -331,8 +333,7 @@ pub fn prepare(
                 obs.message(&format!("  {line}"));
                 notes.push(line);
             }
-            let op = DenseOperator::build(&m.mesh, &active_idx, &xyz, survey, avail / 2, obs)
-                .map_err(|e| e.to_string())?;
+            let op = DenseOperator::build(&m.mesh, &active_idx, &xyz, survey, avail / 2, obs)?;
             Ok(Prepared {
                 op: ScenarioOperator::Dense(op),
                 data: pts,

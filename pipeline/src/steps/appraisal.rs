@@ -6,11 +6,13 @@
 //! `appraisal.json`, `doi.npy` and `doi.vtr` (the index as a model) and one
 //! `held_<test>.npy` per feature test into the run folder.
 
-use super::data::write_text;
-use super::operator::scenario_setup;
-use super::run_dir;
-use super::safe_name;
-use super::steps::{load_model, prov, units_of, Context, RunFile, CAUTION};
+use super::{Stage, StepJob};
+use crate::context::Context;
+use crate::data::write_text;
+use crate::error::Result;
+use crate::operator::scenario_setup;
+use crate::paths::{run_dir, safe_name};
+use crate::runfiles::{load_model, prov, units_of, RunFile, CAUTION};
 use fieldstone_core::constraint::region::membership;
 use fieldstone_core::export::voxel::{write_npy, write_vtr, CellArray};
 use fieldstone_core::invert::appraise::{
@@ -21,8 +23,51 @@ use fieldstone_core::invert::solver::RunResult;
 use fieldstone_core::operator::Operator;
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
+use fieldstone_core::project::provenance::hash_json;
 use serde::{Deserialize, Serialize};
 use std::path::Path;
+use std::path::PathBuf;
+
+/// The appraisal step (only for scenarios that ask for one).
+pub struct Appraisal;
+
+impl Stage for Appraisal {
+    fn key(&self) -> &'static str {
+        "appraisal"
+    }
+    fn title(&self) -> &'static str {
+        "appraise the model (depth of investigation, feature tests)"
+    }
+    fn per_scenario(&self) -> bool {
+        true
+    }
+    fn applies(&self, _p: &ProjectFile, s: Option<&Scenario>) -> bool {
+        s.is_some_and(|s| s.appraisal.is_some())
+    }
+    fn parameters(&self, _p: &ProjectFile, s: Option<&Scenario>) -> String {
+        s.expect("per-scenario step")
+            .appraisal
+            .as_ref()
+            .map(hash_json)
+            .unwrap_or_default()
+    }
+    fn outputs(&self, dir: &Path, _p: &ProjectFile, s: Option<&Scenario>) -> Vec<PathBuf> {
+        let s = s.expect("per-scenario step");
+        let rd = run_dir(dir, &s.name);
+        let mut outputs = vec![rd.join("appraisal.json")];
+        if s.appraisal
+            .as_ref()
+            .is_some_and(|a| a.doi_reference_shift.is_some())
+        {
+            outputs.push(rd.join("doi.npy"));
+        }
+        outputs
+    }
+    fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
+        let s = job.scenario()?;
+        run(job.dir, job.project, job.context, s, job.observer)
+    }
+}
 
 /// `appraisal.json`.
 #[derive(Debug, Clone, Serialize, Deserialize)]
@@ -68,13 +113,13 @@ pub fn read_appraisal(dir: &Path, scenario: &str) -> Option<AppraisalFile> {
     serde_json::from_str(&text).ok()
 }
 
-pub fn run(
+fn run(
     dir: &Path,
     p: &ProjectFile,
     ctx: &mut Context,
     s: &Scenario,
     obs: &dyn Observer,
-) -> Result<String, String> {
+) -> Result<String> {
     let Some(a) = &s.appraisal else {
         return Ok("nothing to appraise".into());
     };
@@ -88,7 +133,8 @@ pub fn run(
         return Err(format!(
             "{} does not match the scenario's active cells; run the inversion again",
             rd.join("model.npy").display()
-        ));
+        )
+        .into());
     }
     let sum_path = rd.join("summary.json");
     let rf: RunFile = serde_json::from_str(

@@ -1,0 +1,207 @@
+//! Gridding of a point table: the pipeline's grid step and the `grid`
+//! command share this (minimum curvature or biharmonic spline, blanking by
+//! distance and hull, GeoTIFF or CSV out).
+
+use crate::error::{Error, Result};
+use fieldstone_core::grid::biharmonic::biharmonic;
+use fieldstone_core::grid::blank::{blank_by_distance, blank_outside, convex_hull, suggest_cell};
+use fieldstone_core::grid::geotiff::write_geotiff;
+use fieldstone_core::grid::mincurv::{min_curvature, MinCurvSettings};
+use fieldstone_core::grid::{Grid2, MAX_NODES};
+use fieldstone_core::io::atomic::{write_atomically, WriteError};
+use fieldstone_core::progress::Observer;
+use fieldstone_core::survey::lines::{split_lines, SplitRule};
+use fieldstone_core::survey::qc::spacing_of;
+use fieldstone_core::table::read::read_table;
+use fieldstone_core::table::{ColumnData, TextOptions};
+use std::path::{Path, PathBuf};
+
+/// How the values are interpolated.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Method {
+    MinCurvature,
+    Biharmonic,
+}
+
+/// One gridding job.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GridJob {
+    /// Delimited text file with the data.
+    pub input: PathBuf,
+    /// Columns of x (easting, metres), y (northing, metres) and the values.
+    pub x: String,
+    pub y: String,
+    pub value: String,
+    /// Cell size, metres (square cells).
+    pub cell_m: f64,
+    /// Output: .tif (Float32 GeoTIFF) or .csv (x,y,value, nodata rows omitted).
+    pub out: PathBuf,
+    /// Tension, 0 to 1 (minimum curvature only).
+    pub tension: f64,
+    /// Blank nodes farther than this from any datum, metres (default 4
+    /// cells or the line spacing, whichever is larger).
+    pub blank_m: Option<f64>,
+    /// Also blank nodes outside the convex hull of the data.
+    pub hull: bool,
+    pub method: Method,
+    /// EPSG code of x and y, written into the GeoTIFF.
+    pub epsg: Option<u32>,
+    /// Units of the values, recorded with the grid (e.g. mGal, nT).
+    pub units: String,
+}
+
+fn column(t: &fieldstone_core::table::Table, name: &str) -> Result<Vec<f64>> {
+    let i = t.column_index(name).ok_or_else(|| {
+        format!(
+            "{}: no column '{name}' (found: {})",
+            t.file.display(),
+            t.names.join(", ")
+        )
+    })?;
+    match &t.columns[i] {
+        ColumnData::Number(v) => Ok(v.clone()),
+        ColumnData::Text(_) => {
+            Err(format!("{}: column '{name}' is text, not numbers", t.file.display()).into())
+        }
+    }
+}
+
+/// Grids the data of `job` and writes the grid; `obs` may cancel the
+/// interpolation. Returns the grid written.
+pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
+    if !(job.cell_m.is_finite() && job.cell_m > 0.0) {
+        return Err(format!("cell size {} must be a positive size in metres", job.cell_m).into());
+    }
+    let ext = job
+        .out
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(|e| e.to_ascii_lowercase())
+        .unwrap_or_default();
+    if !matches!(ext.as_str(), "tif" | "tiff" | "csv") {
+        return Err(format!(
+            "output {}: the output must end in .tif or .csv",
+            job.out.display()
+        )
+        .into());
+    }
+    let t = read_table(&job.input, &TextOptions::default(), None).map_err(|e| e.to_string())?;
+    let (x, y, v) = (
+        column(&t, &job.x)?,
+        column(&t, &job.y)?,
+        column(&t, &job.value)?,
+    );
+    let fin = |v: &[f64]| {
+        v.iter()
+            .copied()
+            .filter(|a| a.is_finite())
+            .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), c| {
+                (a.min(c), b.max(c))
+            })
+    };
+    let ((x0, x1), (y0, y1)) = (fin(&x), fin(&y));
+    if !(x0.is_finite() && y0.is_finite()) {
+        return Err(format!("{}: no rows have both coordinates", job.input.display()).into());
+    }
+    let cell = job.cell_m;
+    let gx0 = (x0 / cell).floor() * cell;
+    let gy0 = (y0 / cell).floor() * cell;
+    let nx = ((x1 - gx0) / cell).ceil() as usize + 1;
+    let ny = ((y1 - gy0) / cell).ceil() as usize + 1;
+    if nx.saturating_mul(ny) > MAX_NODES {
+        return Err(Error::Memory(format!(
+            "a {cell} m cell over this survey makes {nx} × {ny} = {} nodes ({:.0} MB per grid, more with the solver's work space), above the {MAX_NODES}-node limit; use a cell of at least {:.1} m",
+            nx * ny,
+            (nx * ny) as f64 * 8.0 / 1e6,
+            cell * ((nx * ny) as f64 / MAX_NODES as f64).sqrt()
+        )));
+    }
+    let lines = split_lines(&x, &y, &SplitRule::default());
+    let sp = spacing_of(&x, &y, &lines);
+    let (suggested, why) = suggest_cell(sp.line_spacing_m, sp.along_line_m);
+    obs.message(&format!(
+        "suggested cell: {suggested:.1} m ({why}); using {cell} m"
+    ));
+    let mut template = Grid2::new_empty(gx0, gy0, cell, cell, nx, ny).map_err(|e| e.to_string())?;
+    template.epsg = job.epsg;
+    template.units = job.units.clone();
+    let gridded = match job.method {
+        Method::MinCurvature => min_curvature(
+            &x,
+            &y,
+            &v,
+            &template,
+            &MinCurvSettings {
+                tension: job.tension,
+                ..Default::default()
+            },
+            obs,
+        ),
+        Method::Biharmonic => biharmonic(&x, &y, &v, &template, obs),
+    };
+    let mut g = gridded.map_err(|e| match Error::from(e) {
+        Error::Input(m) => Error::Input(format!("{}: {m}", job.input.display())),
+        other => other,
+    })?;
+    // Default: four cells, but never less than the line spacing, so nodes
+    // half-way between lines keep their values (common practice).
+    let blank = job.blank_m.unwrap_or_else(|| {
+        let ls = if sp.line_spacing_m.is_finite() {
+            sp.line_spacing_m
+        } else {
+            0.0
+        };
+        (4.0 * cell).max(ls)
+    });
+    blank_by_distance(&mut g, &x, &y, blank);
+    if job.hull {
+        blank_outside(&mut g, &convex_hull(&x, &y));
+    }
+    g.note = format!(
+        "{:?} grid of '{}' from {} (cell {cell} m, tension {}, blank {blank} m)",
+        job.method,
+        job.value,
+        job.input.display(),
+        job.tension,
+    );
+    write_grid(&job.out, &g)?;
+    obs.message(&format!(
+        "grid: {nx} × {ny} nodes, {} with data -> {}",
+        g.n_valid(),
+        job.out.display()
+    ));
+    Ok(g)
+}
+
+/// Writes a grid as GeoTIFF or as x,y,value CSV by the file's extension.
+pub fn write_grid(out: &Path, g: &Grid2) -> Result<()> {
+    let ext = out
+        .extension()
+        .and_then(|e| e.to_str())
+        .map(|e| e.to_ascii_lowercase())
+        .unwrap_or_default();
+    if ext == "csv" {
+        struct E(String);
+        impl From<WriteError> for E {
+            fn from(e: WriteError) -> Self {
+                E(e.to_string())
+            }
+        }
+        let r: std::result::Result<(), E> = write_atomically(out, |w| {
+            let io = |e: std::io::Error| E(format!("could not write {}: {e}", out.display()));
+            writeln!(w, "x,y,value").map_err(io)?;
+            for j in 0..g.ny {
+                for i in 0..g.nx {
+                    let v = g.get(i, j);
+                    if v.is_finite() {
+                        writeln!(w, "{},{},{}", g.x_of(i), g.y_of(j), v).map_err(io)?;
+                    }
+                }
+            }
+            Ok(())
+        });
+        r.map_err(|e| Error::Internal(e.0))
+    } else {
+        write_geotiff(out, g).map_err(|e| Error::Internal(e.to_string()))
+    }
+}

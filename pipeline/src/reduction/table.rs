@@ -1,0 +1,168 @@
+//! What both reductions share: positions of the rows, times, the output.
+
+use crate::error::{Error, Result};
+use fieldstone_core::geodesy::crs::Crs;
+use fieldstone_core::io::atomic::{write_atomically, WriteError};
+use fieldstone_core::survey::time::{
+    parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat,
+};
+use fieldstone_core::table::passthrough::{write_with_columns, PassThroughError, PassThroughTable};
+use std::path::Path;
+
+/// A pass-through table error as a pipeline error.
+pub(crate) fn table_error(e: PassThroughError) -> Error {
+    Error::Input(e.to_string())
+}
+
+/// Positions of every row: latitude, longitude (degrees) and projected x, y
+/// when a projected reference is known.
+pub(crate) struct Positions {
+    pub lat: Vec<f64>,
+    pub lon: Vec<f64>,
+    pub xy: Option<(Vec<f64>, Vec<f64>, Crs)>,
+}
+
+/// Latitude and longitude of every row: from x, y in the projected
+/// reference `epsg`, or from lat, lon columns when there is none.
+pub(crate) fn positions(t: &PassThroughTable, epsg: Option<u32>) -> Result<Positions> {
+    match epsg {
+        Some(code) => {
+            let crs = Crs::from_epsg(code).map_err(|e| format!("EPSG code: {e}"))?;
+            if crs.is_geographic() {
+                return Err(format!("EPSG:{code} is geographic; give lat and lon columns instead of x and y, or a projected code").into());
+            }
+            let hint = "with a projected EPSG code the file needs x and y (metres)";
+            let x = t
+                .numbers(t.require("x", hint).map_err(table_error)?, true)
+                .map_err(table_error)?;
+            let y = t
+                .numbers(t.require("y", hint).map_err(table_error)?, true)
+                .map_err(table_error)?;
+            let (mut lat, mut lon) = (Vec::with_capacity(x.len()), Vec::with_capacity(x.len()));
+            for k in 0..x.len() {
+                let (a, b) = crs
+                    .unproject(x[k], y[k])
+                    .map_err(|e| format!("{}: line {}: {e}", t.file.display(), t.lines[k]))?;
+                lat.push(a);
+                lon.push(b);
+            }
+            Ok(Positions {
+                lat,
+                lon,
+                xy: Some((x, y, crs)),
+            })
+        }
+        None => {
+            let hint = "give lat and lon in degrees, or x and y with a projected EPSG code";
+            let lat = t
+                .numbers(t.require("lat", hint).map_err(table_error)?, true)
+                .map_err(table_error)?;
+            let lon = t
+                .numbers(t.require("lon", hint).map_err(table_error)?, true)
+                .map_err(table_error)?;
+            for k in 0..lat.len() {
+                if !(-90.0..=90.0).contains(&lat[k]) {
+                    return Err(format!("{}: line {}, column 'lat': latitude {} is outside −90 to 90 (are lat and lon swapped?)", t.file.display(), t.lines[k], lat[k]).into());
+                }
+                if !(-360.0..=360.0).contains(&lon[k]) {
+                    return Err(format!(
+                        "{}: line {}, column 'lon': longitude {} is outside −360 to 360",
+                        t.file.display(),
+                        t.lines[k],
+                        lon[k]
+                    )
+                    .into());
+                }
+            }
+            Ok(Positions { lat, lon, xy: None })
+        }
+    }
+}
+
+/// Times (seconds since 1970 UTC) of a time column: ISO date-times, or times
+/// of day (clock, decimal hours, seconds of day) on `date` (YYYY-MM-DD).
+pub(crate) fn times(t: &PassThroughTable, col: usize, date: Option<&str>) -> Result<Vec<f64>> {
+    let day = match date {
+        Some(d) => Some(
+            parse_date(d, DateOrder::YearMonthDay).map_err(|e| format!("survey date: {e}"))? as f64
+                * 86_400.0,
+        ),
+        None => None,
+    };
+    let texts: Vec<String> = (0..t.n_rows()).map(|r| t.text(r, col)).collect();
+    let below_24 = texts
+        .iter()
+        .filter_map(|s| s.parse::<f64>().ok())
+        .all(|v| v < 24.0);
+    let mut out = Vec::with_capacity(texts.len());
+    for (r, s) in texts.iter().enumerate() {
+        let at = |m: String| {
+            format!(
+                "{}: line {}, column '{}': {m}",
+                t.file.display(),
+                t.lines[r],
+                t.names[col]
+            )
+        };
+        let is_datetime =
+            s.contains('T') || s.get(1..).is_some_and(|rest| rest.contains('-')) && s.len() >= 8;
+        let v =
+            if is_datetime {
+                parse_datetime(s, DateOrder::YearMonthDay).map_err(at)?
+            } else {
+                let sod = parse_time_of_day(s, TimeFormat::Auto, below_24).map_err(at)?;
+                match day {
+                    Some(d) => d + sod,
+                    None => return Err(at(
+                        "this is a time of day; give the survey date (--date on the command line)"
+                            .into(),
+                    )
+                    .into()),
+                }
+            };
+        out.push(v);
+    }
+    Ok(out)
+}
+
+/// Writes the input's columns and `names` after them, atomically.
+pub(crate) fn write_output(
+    out: &Path,
+    t: &PassThroughTable,
+    names: &[&str],
+    rows: impl FnMut(usize) -> Vec<f64>,
+) -> Result<()> {
+    struct E(Error);
+    impl From<WriteError> for E {
+        fn from(e: WriteError) -> Self {
+            E(Error::Internal(e.to_string()))
+        }
+    }
+    let r: std::result::Result<(), E> = write_atomically(out, |w| {
+        write_with_columns(t, names, rows, w).map_err(|e| {
+            E(Error::Internal(format!(
+                "could not write {}: {e}",
+                out.display()
+            )))
+        })
+    });
+    r.map_err(|e| e.0)
+}
+
+/// Refuses an output path that is one of the inputs, so no input is lost.
+pub(crate) fn guard_inputs(out: &Path, inputs: &[&Path]) -> Result<()> {
+    for i in inputs {
+        let same = match (out.canonicalize(), i.canonicalize()) {
+            (Ok(a), Ok(b)) => a == b,
+            _ => out == *i,
+        };
+        if same {
+            return Err(format!(
+                "the output {} is one of the input files; choose another name so the input is kept",
+                out.display()
+            )
+            .into());
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,65 @@
+//! Grid: each data kind's stations gridded by minimum curvature at the
+//! project's cell size (`data/<kind>_grid.tif`).
+
+use super::{kinds, Stage, StepJob};
+use crate::error::Result;
+use crate::gridding::{grid_points, GridJob, Method};
+use crate::paths::data_path;
+use fieldstone_core::progress::Observer;
+use fieldstone_core::project::file::{ProjectFile, Scenario};
+use fieldstone_core::project::provenance::hash_json;
+use std::path::{Path, PathBuf};
+
+/// The grid step.
+pub struct Grid;
+
+impl Stage for Grid {
+    fn key(&self) -> &'static str {
+        "grid"
+    }
+    fn title(&self) -> &'static str {
+        "grid the anomalies"
+    }
+    fn parameters(&self, p: &ProjectFile, _s: Option<&Scenario>) -> String {
+        hash_json(&p.gridding)
+    }
+    fn outputs(&self, dir: &Path, p: &ProjectFile, _s: Option<&Scenario>) -> Vec<PathBuf> {
+        kinds(p)
+            .iter()
+            .map(|(k, ..)| data_path(dir, &format!("{k}_grid.tif")))
+            .collect()
+    }
+    fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
+        grid(job.dir, job.project, job.observer)
+    }
+}
+
+fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
+    let gs = p
+        .gridding
+        .clone()
+        .ok_or("the project has no gridding settings")?;
+    let mut parts = Vec::new();
+    for (kind, file, col, units) in kinds(p) {
+        let out = data_path(dir, &format!("{kind}_grid.tif"));
+        grid_points(
+            &GridJob {
+                input: data_path(dir, file),
+                x: "x".into(),
+                y: "y".into(),
+                value: col.into(),
+                cell_m: gs.cell_m,
+                out: out.clone(),
+                tension: gs.tension,
+                blank_m: None,
+                hull: false,
+                method: Method::MinCurvature,
+                epsg: p.epsg,
+                units: units.into(),
+            },
+            obs,
+        )?;
+        parts.push(format!("{kind} gridded at {} m", gs.cell_m));
+    }
+    Ok(parts.join(", "))
+}
