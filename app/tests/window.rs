@@ -312,3 +312,78 @@ fn unsaved_edits_are_autosaved_and_offered_at_the_next_start() {
     assert_eq!(on_disk.name, "Harrow Fen (invented demo)");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The frame only draws: with the project open on the Constraints step, 100
+/// idle frames plan nothing and build no constraint arrays or other derived
+/// data; one edit plans once (off the frame) and builds the arrays once.
+#[test]
+fn idle_frames_derive_nothing_and_one_edit_derives_once() {
+    let dir = demo("frames");
+    // The shared steps, so the mesh and data exist.
+    fieldstone_pipeline::run(
+        &dir,
+        &fieldstone_pipeline::Selection::None,
+        false,
+        &fieldstone_pipeline::Quiet,
+    )
+    .unwrap();
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    step(&mut h, "Constraints");
+    // A scenario with constraint layers, so the arrays are not trivial.
+    let with_layers = h
+        .state()
+        .doc
+        .as_ref()
+        .unwrap()
+        .project
+        .scenarios
+        .iter()
+        .position(|s| !s.layers.is_empty())
+        .expect("a demo scenario with layers");
+    h.state_mut().scenario = with_layers;
+    let settle = |h: &mut Harness<FieldstoneApp>| {
+        let t = Instant::now();
+        h.run_steps(5);
+        while h.state().doc.as_ref().unwrap().planning() {
+            assert!(
+                t.elapsed() < Duration::from_secs(60),
+                "planning never ended"
+            );
+            std::thread::sleep(Duration::from_millis(20));
+            h.step();
+        }
+        h.run_steps(5);
+    };
+    settle(&mut h);
+    let counts = |h: &Harness<FieldstoneApp>| {
+        let d = h.state().doc.as_ref().unwrap();
+        (
+            d.plans_started.get(),
+            d.constraint_builds.get(),
+            d.derived_builds.get(),
+        )
+    };
+    let before = counts(&h);
+    assert!(before.1 >= 1, "the Constraints step built no arrays");
+    for _ in 0..100 {
+        h.step();
+    }
+    assert_eq!(counts(&h), before, "idle frames derived data again");
+    // One edit: the first layer's reference weight doubled.
+    {
+        let d = h.state_mut().doc.as_mut().unwrap();
+        d.before_edit();
+        let a = &mut d.project.scenarios[with_layers].layers[0].assign;
+        a.reference_weight = Some(a.reference_weight.unwrap_or(1.0) * 2.0);
+        d.changed();
+    }
+    settle(&mut h);
+    for _ in 0..100 {
+        h.step();
+    }
+    let after = counts(&h);
+    assert_eq!(after.0, before.0 + 1, "plans after one edit");
+    assert_eq!(after.1, before.1 + 1, "constraint builds after one edit");
+    std::fs::remove_dir_all(&dir).ok();
+}

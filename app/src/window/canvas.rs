@@ -110,8 +110,8 @@ pub struct GridLayer<'a> {
 pub struct MapLayers<'a> {
     pub grid: Option<GridLayer<'a>>,
     /// Points with their values (None: drawn plain).
-    pub points: Vec<([f64; 2], Option<f64>)>,
-    pub point_colouring: Option<Colouring>,
+    pub points: std::borrow::Cow<'a, [([f64; 2], Option<f64>)]>,
+    pub point_colouring: Option<std::borrow::Cow<'a, Colouring>>,
     pub highlight: Vec<[f64; 2]>,
     pub lines: Vec<(Vec<[f64; 2]>, Color32, bool)>,
     pub collars: Vec<([f64; 2], String)>,
@@ -476,7 +476,7 @@ pub fn map(
     );
     if let Some(c) = layers
         .point_colouring
-        .as_ref()
+        .as_deref()
         .or(layers.grid.as_ref().map(|g| &g.colouring))
     {
         colour_bar(ui, rect, c, &layers.units);

@@ -2,7 +2,7 @@
 //! messages next to the field.
 
 use super::{FieldstoneApp, Step};
-use crate::pipeline::{constraints_of, Selection};
+use crate::pipeline::Selection;
 use egui::{Color32, RichText, Ui};
 use fieldstone_core::constraint::build::{Assignments, Contact, ContactAlong, Layer};
 use fieldstone_core::constraint::region::{Level, Region};
@@ -264,7 +264,7 @@ pub fn show(app: &mut FieldstoneApp, ui: &mut Ui) {
         }
         app.forms.last_edit = Some(now);
         doc.project = p;
-        doc.refresh_states();
+        doc.changed();
     }
     if let Some((sel, force)) = run_request {
         let ctx = ui.ctx().clone();
@@ -733,8 +733,7 @@ fn model_space(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
             let n_data = app
                 .doc
                 .as_ref()
-                .and_then(|d| super::state::data_points(&d.dir, "gravity"))
-                .map(|d| d.value.len())
+                .and_then(|d| d.views.data_counts.get("gravity").copied())
                 .unwrap_or(0);
             let active_guess = app
                 .doc
@@ -1038,9 +1037,15 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
         layer_editor(ui, l, &surfaces, &wireframes);
     }
     ui.separator();
-    let sc = s.clone();
-    if let Some(m) = app.doc.as_ref().and_then(|d| d.views.model.as_ref()) {
-        match constraints_of(m, &sc) {
+    // The arrays of the scenario as committed (this frame's edit shows from
+    // the next frame), built once per change and shared with the view.
+    let committed = app
+        .doc
+        .as_ref()
+        .and_then(|d| Some((d, d.project.scenarios.get(app.scenario)?)))
+        .and_then(|(d, sc)| d.constraint_arrays(sc));
+    if let Some(arrays) = committed {
+        match arrays.as_ref() {
             Ok((c, warnings)) => {
                 let fixed = c
                     .fixed
@@ -1057,10 +1062,10 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
                     .count();
                 ui.label(format!("{bounded} active cells bounded, {fixed} fixed"));
                 for w in warnings {
-                    warn(ui, w);
+                    warn(ui, w.clone());
                 }
             }
-            Err(e) => warn(ui, e),
+            Err(e) => warn(ui, e.clone()),
         }
     }
     egui::ComboBox::from_label("preview array")

@@ -10,11 +10,12 @@ use std::sync::Arc;
 use std::time::Instant;
 
 /// What a job sends to the window.
-#[derive(Debug, Clone)]
 pub enum Event {
     Line(String),
     Iteration(IterationRecord),
     Progress(usize, usize),
+    /// What the views show, loaded from the folder after the work.
+    Loaded(Box<super::state::Views>),
     Finished(Result<String, Failure>),
 }
 
@@ -86,14 +87,23 @@ pub struct Job {
     pub iterations: Vec<IterationRecord>,
     pub progress: Option<(usize, usize)>,
     pub result: Option<Result<String, Failure>>,
+    /// The views loaded after the work, when the job was asked to.
+    pub loaded: Option<Box<super::state::Views>>,
     handle: Option<std::thread::JoinHandle<()>>,
 }
 
 impl Job {
-    /// Starts `work` on a new thread.
+    /// Starts `work` on a new thread; then, when `reload` names a project
+    /// folder and file, loads what the views show from it on the same
+    /// thread (whether the work succeeded or not: steps that finished
+    /// before a failure changed files), so the frame never reads them.
     pub fn start(
         title: &str,
         ctx: Option<egui::Context>,
+        reload: Option<(
+            std::path::PathBuf,
+            fieldstone_core::project::file::ProjectFile,
+        )>,
         work: impl FnOnce(&dyn Events) -> Result<String, Error> + Send + 'static,
     ) -> Job {
         let (tx, rx) = channel();
@@ -106,6 +116,16 @@ impl Job {
         let handle = std::thread::spawn(move || {
             let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| work(&rep)))
                 .unwrap_or_else(|_| Err(Error::internal("the job stopped on an internal error; the project on disk is as it was after the last finished step")));
+            if let Some((dir, project)) = reload {
+                // The run saved provenance: read the project as it is now,
+                // falling back to the one the job started with.
+                let project = fieldstone_core::project::file::ProjectFile::load(&dir)
+                    .map(|l| l.project)
+                    .unwrap_or(project);
+                rep.send(Event::Loaded(Box::new(super::state::load_views(
+                    &dir, &project,
+                ))));
+            }
             rep.send(Event::Finished(r.map_err(Failure::from)));
         });
         Job {
@@ -117,6 +137,7 @@ impl Job {
             iterations: vec![],
             progress: None,
             result: None,
+            loaded: None,
             handle: Some(handle),
         }
     }
@@ -130,6 +151,7 @@ impl Job {
                 Event::Line(l) => self.lines.push(l),
                 Event::Iteration(r) => self.iterations.push(r),
                 Event::Progress(a, b) => self.progress = Some((a, b)),
+                Event::Loaded(v) => self.loaded = Some(v),
                 Event::Finished(r) => {
                     self.result = Some(r);
                     if let Some(h) = self.handle.take() {

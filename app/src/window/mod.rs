@@ -322,7 +322,8 @@ impl FieldstoneApp {
         };
         self.log.clear();
         self.failed_step = None;
-        self.job = Some(Job::start(&title, ctx, move |obs| {
+        let reload = Some((dir.clone(), doc.project.clone()));
+        self.job = Some(Job::start(&title, ctx, reload, move |obs| {
             let r = pipeline::run(&dir, &which, force, obs)?;
             Ok(format!(
                 "{} steps ran, {} up to date",
@@ -347,6 +348,7 @@ impl FieldstoneApp {
                 }
             }
             let iterations = std::mem::take(&mut job.iterations);
+            let loaded = job.loaded.take();
             self.views.last_iterations = iterations;
             self.job = None;
             if let Some(d) = self.doc.as_mut() {
@@ -355,7 +357,10 @@ impl FieldstoneApp {
                     d.project.provenance = l.project.provenance.clone();
                     d.saved.provenance = l.project.provenance;
                 }
-                d.reload();
+                match loaded {
+                    Some(v) => d.take_views(*v),
+                    None => d.reload(),
+                }
             }
             self.textures = Textures::default();
         }
@@ -598,7 +603,7 @@ impl FieldstoneApp {
         if let Some(d) = self.doc.as_mut() {
             let done = if redo { d.redo() } else { d.undo() };
             if done {
-                d.refresh_states();
+                d.changed();
             }
         }
     }
@@ -705,7 +710,7 @@ impl FieldstoneApp {
                                     Ok(p) => {
                                         doc.before_edit();
                                         doc.project = p;
-                                        doc.refresh_states();
+                                        doc.changed();
                                         self.log.push("recovered the autosaved changes (not saved yet)".into());
                                     }
                                     Err(e) => self.log.push(format!("the autosave could not be read: {e}")),
@@ -864,6 +869,12 @@ impl eframe::App for FieldstoneApp {
         let t0 = Instant::now();
         let ctx = ui.ctx().clone();
         self.poll_job();
+        if let Some(d) = self.doc.as_mut() {
+            d.poll();
+            if d.planning() {
+                ctx.request_repaint_after(std::time::Duration::from_millis(50));
+            }
+        }
         if self.job.as_ref().is_some_and(|j| j.running()) {
             ctx.request_repaint_after(std::time::Duration::from_millis(100));
         }

@@ -4,14 +4,19 @@ use crate::pipeline::{
     at, load_model, load_model_context, load_points, project_states, run_dir, ModelContext, Points,
     RunFile,
 };
+use fieldstone_core::constraint::build::ConstraintArrays;
 use fieldstone_core::grid::geotiff::read_geotiff;
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
 use fieldstone_core::project::file::ProjectFile;
 use fieldstone_core::project::provenance::StepState;
 use fieldstone_core::table::passthrough::read_passthrough;
+use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
+use std::rc::Rc;
+use std::sync::mpsc::{channel, Receiver};
+use std::sync::Arc;
 
 /// A table's numeric columns by name (text columns kept as text).
 #[derive(Default, Clone)]
@@ -66,13 +71,17 @@ pub struct RunView {
 /// A drill hole for the map: id, collar and points along its trace.
 pub type HoleTrace = (String, [f64; 3], Vec<[f64; 3]>);
 
-/// What the views draw.
+/// What the views draw. Loaded from the project folder, never inside a
+/// frame's drawing: the tables and grids are shared (`Arc`) so a view that
+/// needs one takes a handle, not a copy.
 #[derive(Default)]
 pub struct Views {
-    pub gravity_raw: Option<Readings>,
-    pub gravity_reduced: Option<Readings>,
-    pub magnetic_reduced: Option<Readings>,
-    pub grids: BTreeMap<String, Grid2>,
+    pub gravity_raw: Option<Arc<Readings>>,
+    pub gravity_reduced: Option<Arc<Readings>>,
+    pub magnetic_reduced: Option<Arc<Readings>>,
+    pub grids: BTreeMap<String, Arc<Grid2>>,
+    /// Data points the inversions fit, by kind (`gravity`, `magnetic`).
+    pub data_counts: BTreeMap<String, usize>,
     pub model: Option<ModelContext>,
     pub holes: Vec<HoleTrace>,
     pub runs: BTreeMap<String, RunView>,
@@ -90,6 +99,38 @@ pub struct Doc {
     pub redo: Vec<ProjectFile>,
     pub states: Vec<(String, StepState)>,
     pub views: Views,
+    /// Counts every change of the project or the views; derived data are
+    /// cached against it.
+    pub generation: u64,
+    /// The generation the step states were planned for, and the planning
+    /// under way off the frame (its generation and where its answer comes).
+    states_generation: Option<u64>,
+    planning: Option<(u64, Receiver<PlannedStates>)>,
+    /// The constraint arrays of one scenario at one generation.
+    constraints: RefCell<Option<ConstraintCache>>,
+    /// How often the plan and the constraint arrays were worked out (the
+    /// window test counts them).
+    pub plans_started: Cell<usize>,
+    pub constraint_builds: Cell<usize>,
+    /// Other derived data of the views (point lists, colourings), by key,
+    /// with the generation they were made at.
+    memo: RefCell<std::collections::HashMap<String, Derived>>,
+    pub derived_builds: Cell<usize>,
+}
+
+/// The step states a planning thread sends back.
+type PlannedStates = Result<Vec<(String, StepState)>, String>;
+
+/// A derived value and the generation it was made at.
+type Derived = (u64, Rc<dyn std::any::Any>);
+
+/// Constraint arrays (and warnings) of a scenario, or the message why not.
+pub type Constraints = Rc<Result<(ConstraintArrays, Vec<String>), String>>;
+
+struct ConstraintCache {
+    generation: u64,
+    scenario: fieldstone_core::project::file::Scenario,
+    arrays: Constraints,
 }
 
 /// The autosave file of a project folder.
@@ -109,6 +150,14 @@ impl Doc {
             redo: vec![],
             states: vec![],
             views: Views::default(),
+            generation: 0,
+            states_generation: None,
+            planning: None,
+            constraints: RefCell::new(None),
+            plans_started: Cell::new(0),
+            constraint_builds: Cell::new(0),
+            memo: RefCell::new(Default::default()),
+            derived_builds: Cell::new(0),
         };
         d.reload();
         Ok(d)
@@ -166,9 +215,86 @@ impl Doc {
         crate::pipeline::write_text(&autosave_path(&self.dir), &text).map_err(String::from)
     }
 
-    /// The step states as they stand now.
-    pub fn refresh_states(&mut self) {
-        self.states = project_states(&self.dir, &self.project).unwrap_or_default();
+    /// Marks the project as changed: derived data are worked out again and
+    /// the step states planned again (off the frame, see [`Doc::poll`]).
+    pub fn changed(&mut self) {
+        self.generation += 1;
+    }
+
+    /// Takes the answer of the planning under way and starts planning when
+    /// the project changed since the states were planned. Planning reads
+    /// and hashes every input file, so it runs on its own thread; the frame
+    /// shows the last states until the new ones arrive. One planning at a
+    /// time: edits made meanwhile are planned when it ends.
+    pub fn poll(&mut self) {
+        if let Some((generation, rx)) = &self.planning {
+            match rx.try_recv() {
+                Ok(r) => {
+                    self.states = r.unwrap_or_default();
+                    self.states_generation = Some(*generation);
+                    self.planning = None;
+                }
+                Err(std::sync::mpsc::TryRecvError::Empty) => return,
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => self.planning = None,
+            }
+        }
+        if self.states_generation != Some(self.generation) {
+            let (tx, rx) = channel();
+            let (dir, project) = (self.dir.clone(), self.project.clone());
+            std::thread::spawn(move || {
+                let _ = tx.send(project_states(&dir, &project).map_err(String::from));
+            });
+            self.plans_started.set(self.plans_started.get() + 1);
+            self.planning = Some((self.generation, rx));
+        }
+    }
+
+    /// True while the step states are being planned.
+    pub fn planning(&self) -> bool {
+        self.planning.is_some()
+    }
+
+    /// Data derived from the project and the views, made once per
+    /// generation for each `key` (which must name everything else the data
+    /// depend on: a column, a line, a colouring option).
+    pub fn derived<T: 'static>(&self, key: String, make: impl FnOnce() -> T) -> Rc<T> {
+        if let Some((g, v)) = self.memo.borrow().get(&key) {
+            if *g == self.generation {
+                if let Ok(v) = v.clone().downcast::<T>() {
+                    return v;
+                }
+            }
+        }
+        self.derived_builds.set(self.derived_builds.get() + 1);
+        let v = Rc::new(make());
+        let mut memo = self.memo.borrow_mut();
+        memo.retain(|_, (g, _)| *g == self.generation);
+        memo.insert(key, (self.generation, v.clone()));
+        v
+    }
+
+    /// The constraint arrays of `scenario` on the loaded mesh, built once
+    /// per generation of the project and the views (`None` before a mesh).
+    pub fn constraint_arrays(
+        &self,
+        scenario: &fieldstone_core::project::file::Scenario,
+    ) -> Option<Constraints> {
+        let m = self.views.model.as_ref()?;
+        let mut cache = self.constraints.borrow_mut();
+        if let Some(c) = cache.as_ref() {
+            if c.generation == self.generation && &c.scenario == scenario {
+                return Some(c.arrays.clone());
+            }
+        }
+        self.constraint_builds.set(self.constraint_builds.get() + 1);
+        let arrays: Constraints =
+            Rc::new(crate::pipeline::constraints_of(m, scenario).map_err(String::from));
+        *cache = Some(ConstraintCache {
+            generation: self.generation,
+            scenario: scenario.clone(),
+            arrays: arrays.clone(),
+        });
+        Some(arrays)
     }
 
     pub fn state_of(&self, key: &str) -> Option<StepState> {
@@ -178,114 +304,124 @@ impl Doc {
     /// Loads what the views show from the project folder; missing outputs
     /// are simply absent.
     pub fn reload(&mut self) {
-        self.refresh_states();
-        let mut v = Views::default();
-        let p = &self.project;
-        let dir = &self.dir;
-        let mut note = |r: Result<(), String>| {
-            if let Err(e) = r {
-                v.problems.push(e);
-            }
-        };
-        if let Some(g) = &p.gravity {
-            note(
-                at(dir, &g.file)
-                    .map_err(String::from)
-                    .and_then(|f| Readings::load(&f))
-                    .map(|r| v.gravity_raw = Some(r)),
-            );
-        }
-        let red = dir.join("data/gravity_reduced.csv");
-        if red.exists() {
-            note(Readings::load(&red).map(|r| v.gravity_reduced = Some(r)));
-        }
-        let mred = dir.join("data/magnetic_reduced.csv");
-        if mred.exists() {
-            note(Readings::load(&mred).map(|r| v.magnetic_reduced = Some(r)));
-        }
-        if let Some(d) = &p.dem {
-            note(
-                at(dir, d)
-                    .map_err(String::from)
-                    .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
-                    .map(|g| {
-                        v.grids.insert("terrain".into(), g);
-                    }),
-            );
-        }
-        for s in &p.surfaces {
-            note(
-                at(dir, &s.file)
-                    .map_err(String::from)
-                    .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
-                    .map(|g| {
-                        v.grids.insert(s.name.clone(), g);
-                    }),
-            );
-        }
-        for kind in ["gravity", "magnetic"] {
-            for what in ["grid", "regional", "residual"] {
-                let f = dir.join(format!("data/{kind}_{what}.tif"));
-                if f.exists() {
-                    note(read_geotiff(&f).map_err(|e| e.to_string()).map(|g| {
-                        v.grids.insert(format!("{kind}_{what}"), g);
-                    }));
-                }
-            }
-        }
-        match load_model_context(dir, p) {
-            Ok(m) => {
-                v.holes = crate::pipeline::hole_traces(&m);
-                for s in &p.scenarios {
-                    let rd = run_dir(dir, &s.name);
-                    let Ok(text) = std::fs::read_to_string(rd.join("summary.json")) else {
-                        continue;
-                    };
-                    let Ok(file) = serde_json::from_str::<RunFile>(&text) else {
-                        continue;
-                    };
-                    let Ok(model) = load_model(dir, &s.name, m.mesh.n_cells()) else {
-                        continue;
-                    };
-                    let log = std::fs::read_to_string(rd.join("log.json"))
-                        .ok()
-                        .and_then(|t| serde_json::from_str(&t).ok())
-                        .unwrap_or_default();
-                    let (observed, predicted) =
-                        crate::pipeline::read_predicted(&rd.join("predicted.csv"))
-                            .unwrap_or_default();
-                    let appraisal = crate::pipeline::appraisal::read_appraisal(dir, &s.name);
-                    let doi = appraisal
-                        .as_ref()
-                        .and_then(|a| a.doi.as_ref())
-                        .and_then(|_| {
-                            crate::pipeline::load_run_array(
-                                dir,
-                                &s.name,
-                                "doi.npy",
-                                m.mesh.n_cells(),
-                            )
-                            .ok()
-                        });
-                    v.runs.insert(
-                        s.name.clone(),
-                        RunView {
-                            file,
-                            model,
-                            observed,
-                            predicted,
-                            log,
-                            doi,
-                            appraisal,
-                        },
-                    );
-                }
-                v.model = Some(m);
-            }
-            Err(e) => v.problems.push(e.to_string()),
-        }
-        self.views = v;
+        self.views = load_views(&self.dir, &self.project);
+        self.changed();
     }
+
+    /// Takes views loaded off the frame (after a run).
+    pub fn take_views(&mut self, views: Views) {
+        self.views = views;
+        self.changed();
+    }
+}
+
+/// Loads what the views show from the project folder; missing outputs are
+/// simply absent. Reads files: call it off the frame (a job does after a
+/// run) or once when a project opens.
+pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
+    let mut v = Views::default();
+    let mut note = |r: Result<(), String>| {
+        if let Err(e) = r {
+            v.problems.push(e);
+        }
+    };
+    if let Some(g) = &p.gravity {
+        note(
+            at(dir, &g.file)
+                .map_err(String::from)
+                .and_then(|f| Readings::load(&f))
+                .map(|r| v.gravity_raw = Some(Arc::new(r))),
+        );
+    }
+    let red = dir.join("data/gravity_reduced.csv");
+    if red.exists() {
+        note(Readings::load(&red).map(|r| v.gravity_reduced = Some(Arc::new(r))));
+    }
+    let mred = dir.join("data/magnetic_reduced.csv");
+    if mred.exists() {
+        note(Readings::load(&mred).map(|r| v.magnetic_reduced = Some(Arc::new(r))));
+    }
+    if let Some(d) = &p.dem {
+        note(
+            at(dir, d)
+                .map_err(String::from)
+                .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                .map(|g| {
+                    v.grids.insert("terrain".into(), Arc::new(g));
+                }),
+        );
+    }
+    for s in &p.surfaces {
+        note(
+            at(dir, &s.file)
+                .map_err(String::from)
+                .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                .map(|g| {
+                    v.grids.insert(s.name.clone(), Arc::new(g));
+                }),
+        );
+    }
+    for kind in ["gravity", "magnetic"] {
+        for what in ["grid", "regional", "residual"] {
+            let f = dir.join(format!("data/{kind}_{what}.tif"));
+            if f.exists() {
+                note(read_geotiff(&f).map_err(|e| e.to_string()).map(|g| {
+                    v.grids.insert(format!("{kind}_{what}"), Arc::new(g));
+                }));
+            }
+        }
+    }
+    for kind in ["gravity", "magnetic"] {
+        if let Some(pts) = data_points(dir, kind) {
+            v.data_counts.insert(kind.to_string(), pts.value.len());
+        }
+    }
+    match load_model_context(dir, p) {
+        Ok(m) => {
+            v.holes = crate::pipeline::hole_traces(&m);
+            for s in &p.scenarios {
+                let rd = run_dir(dir, &s.name);
+                let Ok(text) = std::fs::read_to_string(rd.join("summary.json")) else {
+                    continue;
+                };
+                let Ok(file) = serde_json::from_str::<RunFile>(&text) else {
+                    continue;
+                };
+                let Ok(model) = load_model(dir, &s.name, m.mesh.n_cells()) else {
+                    continue;
+                };
+                let log = std::fs::read_to_string(rd.join("log.json"))
+                    .ok()
+                    .and_then(|t| serde_json::from_str(&t).ok())
+                    .unwrap_or_default();
+                let (observed, predicted) =
+                    crate::pipeline::read_predicted(&rd.join("predicted.csv")).unwrap_or_default();
+                let appraisal = crate::pipeline::appraisal::read_appraisal(dir, &s.name);
+                let doi = appraisal
+                    .as_ref()
+                    .and_then(|a| a.doi.as_ref())
+                    .and_then(|_| {
+                        crate::pipeline::load_run_array(dir, &s.name, "doi.npy", m.mesh.n_cells())
+                            .ok()
+                    });
+                v.runs.insert(
+                    s.name.clone(),
+                    RunView {
+                        file,
+                        model,
+                        observed,
+                        predicted,
+                        log,
+                        doi,
+                        appraisal,
+                    },
+                );
+            }
+            v.model = Some(m);
+        }
+        Err(e) => v.problems.push(e.to_string()),
+    }
+    v
 }
 
 /// Loads the points table of a data kind, when the pipeline has made it.

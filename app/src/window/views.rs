@@ -147,11 +147,15 @@ fn grid_map(
         grid: g.map(|g| GridLayer {
             key: name.to_string(),
             grid: g,
-            colouring: Colouring::for_values(&g.values, app.views.equalise),
+            colouring: (*doc.derived(
+                format!("grid colouring|{name}|{}", app.views.equalise),
+                || Colouring::for_values(&g.values, app.views.equalise),
+            ))
+            .clone(),
             hillshade: app.views.hillshade,
             contours: app.views.contours,
         }),
-        points,
+        points: points.into(),
         point_colouring: None,
         highlight: vec![],
         lines,
@@ -232,15 +236,35 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
     } else {
         app.views.colour_by.clone()
     };
-    let values = r.column(&col).cloned().unwrap_or_default();
-    let pts: Vec<([f64; 2], Option<f64>)> = (0..r.x.len())
-        .map(|k| ([r.x[k], r.y[k]], values.get(k).copied()))
-        .collect();
-    let colouring = Colouring::for_values(&values, app.views.equalise);
-    let sel: Vec<usize> = match &app.views.line {
-        Some(l) => (0..r.lines.len()).filter(|k| &r.lines[*k] == l).collect(),
-        None => vec![],
-    };
+    // The points, their colouring and the terrain's shading range, made
+    // once per change of the project, the column or the colouring option.
+    let survey = doc.derived(
+        format!("survey|{corrections}|{col}|{}", app.views.equalise),
+        || {
+            let values = r.column(&col).cloned().unwrap_or_default();
+            let pts: Vec<([f64; 2], Option<f64>)> = (0..r.x.len())
+                .map(|k| ([r.x[k], r.y[k]], values.get(k).copied()))
+                .collect();
+            let colouring = Colouring::for_values(&values, app.views.equalise);
+            let terrain_range = terrain.as_ref().map(|g| {
+                (
+                    g.values.iter().cloned().fold(f64::INFINITY, f64::min) - 40.0,
+                    g.values.iter().cloned().fold(f64::NEG_INFINITY, f64::max) + 40.0,
+                )
+            });
+            (values, pts, colouring, terrain_range)
+        },
+    );
+    let (values, pts, colouring, terrain_range) = (&survey.0, &survey.1, &survey.2, survey.3);
+    let line_key = app.views.line.clone().unwrap_or_default();
+    let sel = doc.derived(format!("line|{corrections}|{line_key}"), || {
+        match &app.views.line {
+            Some(l) => (0..r.lines.len())
+                .filter(|k| &r.lines[*k] == l)
+                .collect::<Vec<usize>>(),
+            None => vec![],
+        }
+    });
     let ext = extent(app);
     let h = ui.available_height();
     ui.label(
@@ -257,15 +281,15 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
                 grid: g,
                 colouring: Colouring {
                     map: fieldstone_core::export::figure::ColourMap::Grey,
-                    lo: g.values.iter().cloned().fold(f64::INFINITY, f64::min) - 40.0,
-                    hi: g.values.iter().cloned().fold(f64::NEG_INFINITY, f64::max) + 40.0,
+                    lo: terrain_range.map_or(0.0, |r| r.0),
+                    hi: terrain_range.map_or(1.0, |r| r.1),
                     equalised: None,
                 },
                 hillshade: true,
                 contours: None,
             }),
-            points: pts.clone(),
-            point_colouring: Some(colouring.clone()),
+            points: std::borrow::Cow::Borrowed(pts.as_slice()),
+            point_colouring: Some(std::borrow::Cow::Borrowed(colouring)),
             highlight: sel
                 .iter()
                 .map(|k| pts[*k].0)
@@ -316,7 +340,7 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
     let mut out: Vec<[f64; 2]> = Vec::new();
     if !sel.is_empty() {
         let (x0, y0) = (r.x[sel[0]], r.y[sel[0]]);
-        let mut s: Vec<usize> = sel.clone();
+        let mut s: Vec<usize> = sel.to_vec();
         s.sort_by(|a, b| {
             ((r.x[*a] - x0).hypot(r.y[*a] - y0)).total_cmp(&(r.x[*b] - x0).hypot(r.y[*b] - y0))
         });
@@ -411,7 +435,7 @@ pub fn toggle_rejected(app: &mut FieldstoneApp, row: usize) {
             }
         }
     }
-    d.refresh_states();
+    d.changed();
 }
 
 /// Readings of a profile (in line order) that the survey spike detector
@@ -492,7 +516,7 @@ fn slice_map(
             hillshade: false,
             contours: app.views.contours,
         }),
-        points: vec![],
+        points: Default::default(),
         point_colouring: None,
         highlight: app.views.section_at.into_iter().collect(),
         lines,
@@ -646,14 +670,17 @@ fn constraints(app: &mut FieldstoneApp, ui: &mut Ui) {
         ui.label("No scenario: make one in the form.");
         return;
     };
-    let Some(m) = doc.views.model.as_ref() else {
+    if doc.views.model.is_none() {
         ui.label("No mesh yet.");
         return;
     };
-    let arrays = match crate::pipeline::constraints_of(m, &sc) {
+    let Some(built) = doc.constraint_arrays(&sc) else {
+        return;
+    };
+    let arrays = match built.as_ref() {
         Ok((c, _)) => c,
         Err(e) => {
-            ui.label(RichText::new(e).color(Color32::RED));
+            ui.label(RichText::new(e.clone()).color(Color32::RED));
             return;
         }
     };
@@ -1046,8 +1073,8 @@ fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {
                     ui.label(RichText::new(label).strong());
                     let layers = MapLayers {
                         grid: None,
-                        points: p,
-                        point_colouring: Some(c),
+                        points: p.into(),
+                        point_colouring: Some(std::borrow::Cow::Owned(c)),
                         highlight: vec![],
                         lines: vec![],
                         collars: vec![],
