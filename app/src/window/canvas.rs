@@ -112,6 +112,10 @@ pub struct MapLayers<'a> {
     /// Points with their values (None: drawn plain).
     pub points: std::borrow::Cow<'a, [([f64; 2], Option<f64>)]>,
     pub point_colouring: Option<std::borrow::Cow<'a, Colouring>>,
+    /// A number that changes whenever the points or their colouring do
+    /// (the document's derived-data key), so their dots can be kept from
+    /// frame to frame; `None` rebuilds them every frame.
+    pub points_version: Option<u64>,
     pub highlight: Vec<[f64; 2]>,
     pub lines: Vec<(Vec<[f64; 2]>, Color32, bool)>,
     pub collars: Vec<([f64; 2], String)>,
@@ -196,6 +200,103 @@ pub struct Textures {
     dot: Option<TextureHandle>,
     /// Colourings of the grids and arrays shown, by the same keys.
     colourings: HashMap<String, Colouring>,
+    /// The last station-dot mesh or image and what it was made from (see
+    /// [`station_dots`]).
+    dots: Option<(DotsKey, egui::Mesh)>,
+    dots_image: Option<(DotsKey, TextureHandle)>,
+}
+
+/// What a station-dot mesh depends on: the points and their colouring (by
+/// the version their owner gives), the view.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct DotsKey {
+    version: u64,
+    n: usize,
+    centre: [f64; 2],
+    scale: f64,
+    rect: Rect,
+}
+
+/// Once a map shows more dots than [`DOTS_IN_FULL`], one coloured cell per
+/// this many screen points in each direction: a survey of millions of
+/// readings draws as a dense carpet either way, and the image keeps the
+/// frame short.
+const DOT_BIN: f32 = 2.0;
+/// Up to this many visible dots every one is drawn.
+const DOTS_IN_FULL: usize = 50_000;
+
+/// How the station dots are drawn this frame.
+enum Dots {
+    /// Every visible dot as a textured quad.
+    Mesh(egui::Mesh),
+    /// A dense survey: one pixel per [`DOT_BIN`]-point cell of the map,
+    /// drawn as one image over the map's rectangle.
+    Image(egui::TextureId),
+}
+
+/// The station dots of `layers`: every visible dot as one textured mesh up
+/// to [`DOTS_IN_FULL`], else one coloured cell per [`DOT_BIN`]-point square
+/// of the screen (the last reading in the list wins), painted into an
+/// image, so millions of readings cost one quad to draw. Points with a
+/// version (the survey map's) keep their mesh or image from frame to frame
+/// until the view or the version changes, so an idle frame builds nothing.
+fn station_dots(
+    textures: &mut Textures,
+    ctx: &egui::Context,
+    dot: egui::TextureId,
+    layers: &MapLayers,
+    frame: &MapFrame,
+    rect: Rect,
+) -> Dots {
+    let stable = layers.points_version.is_some();
+    let key = DotsKey {
+        version: layers.points_version.unwrap_or(0),
+        n: layers.points.len(),
+        centre: frame.centre,
+        scale: frame.scale,
+        rect,
+    };
+    if stable {
+        if let Some((k, mesh)) = &textures.dots {
+            if *k == key && mesh.texture_id == dot {
+                return Dots::Mesh(mesh.clone());
+            }
+        }
+        if let Some((k, tex)) = &textures.dots_image {
+            if *k == key {
+                return Dots::Image(tex.id());
+            }
+        }
+    }
+    let colour = |v: &Option<f64>| match (v, &layers.point_colouring) {
+        (Some(v), Some(c)) if v.is_finite() => c.colour(*v),
+        _ => Color32::from_gray(60),
+    };
+    let visible: Vec<(Pos2, &Option<f64>)> = layers
+        .points
+        .iter()
+        .filter_map(|(p, v)| {
+            let q = frame.to_screen(rect, *p);
+            rect.contains(q).then_some((q, v))
+        })
+        .collect();
+    if visible.len() <= DOTS_IN_FULL {
+        let mesh = dot_mesh(dot, visible.iter().map(|(q, v)| (*q, colour(v))), 3.6);
+        textures.dots = stable.then(|| (key, mesh.clone()));
+        return Dots::Mesh(mesh);
+    }
+    let nx = (rect.width() / DOT_BIN).ceil().max(1.0) as usize;
+    let ny = (rect.height() / DOT_BIN).ceil().max(1.0) as usize;
+    let mut image = ColorImage::new([nx, ny], vec![Color32::TRANSPARENT; nx * ny]);
+    for (q, v) in &visible {
+        let i = (((q.x - rect.left()) / DOT_BIN) as usize).min(nx - 1);
+        let j = (((q.y - rect.top()) / DOT_BIN) as usize).min(ny - 1);
+        image.pixels[i + nx * j] = colour(v);
+    }
+    let tex = ctx.load_texture("station-cells", image, TextureOptions::NEAREST);
+    let id = tex.id();
+    textures.dots_image = Some((key, tex));
+    Dots::Image(id)
 }
 
 impl Textures {
@@ -410,14 +511,6 @@ pub fn map(
         }
         painter.add(egui::Shape::line(s, Stroke::new(2.0, *col)));
     }
-    let dots = layers.points.iter().filter_map(|(p, v)| {
-        let col = match (v, &layers.point_colouring) {
-            (Some(v), Some(c)) if v.is_finite() => c.colour(*v),
-            _ => Color32::from_gray(60),
-        };
-        let q = frame.to_screen(rect, *p);
-        rect.contains(q).then_some((q, col))
-    });
     let dot = textures
         .dot
         .get_or_insert_with(|| {
@@ -425,7 +518,19 @@ pub fn map(
                 .load_texture("dot", dot_image(), TextureOptions::LINEAR)
         })
         .id();
-    painter.add(egui::Shape::mesh(dot_mesh(dot, dots, 3.6)));
+    match station_dots(textures, ui.ctx(), dot, layers, frame, rect) {
+        Dots::Mesh(mesh) => {
+            painter.add(egui::Shape::mesh(mesh));
+        }
+        Dots::Image(id) => {
+            painter.image(
+                id,
+                rect,
+                Rect::from_min_max(Pos2::ZERO, Pos2::new(1.0, 1.0)),
+                Color32::WHITE,
+            );
+        }
+    }
     for p in &layers.highlight {
         painter.circle_stroke(
             frame.to_screen(rect, *p),

@@ -375,14 +375,15 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui, p: &mut ProjectFile) {
     }
     ui.separator();
     ui.label("Quality control: choose a line to see its profile");
-    if let Some(r) = app.doc.as_ref().and_then(|d| d.views.gravity_raw.clone()) {
-        let mut lines: Vec<String> = r.lines.clone();
-        lines.sort();
-        lines.dedup();
+    if let Some((r, lines)) = app
+        .doc
+        .as_ref()
+        .and_then(|d| Some((d.views.gravity_raw.clone()?, d.survey_lines())))
+    {
         egui::ComboBox::from_label("line")
             .selected_text(app.views.line.clone().unwrap_or_else(|| "none".into()))
             .show_ui(ui, |ui| {
-                for l in lines {
+                for l in lines.iter() {
                     let v = Some(l.clone());
                     ui.selectable_value(&mut app.views.line, v, l);
                 }

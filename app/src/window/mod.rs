@@ -6,6 +6,7 @@ mod appraise_form;
 mod canvas;
 mod dialogs;
 mod forms;
+mod index;
 pub mod jobs;
 mod menu;
 mod panels;
@@ -305,12 +306,11 @@ impl FieldstoneApp {
         let v = &d.views;
         match step {
             Step::Survey => match &v.gravity_raw {
-                Some(r) => {
-                    let mut lines: Vec<&String> = r.lines.iter().collect();
-                    lines.sort();
-                    lines.dedup();
-                    format!("{} gravity readings, {} lines", r.x.len(), lines.len())
-                }
+                Some(r) => format!(
+                    "{} gravity readings, {} lines",
+                    r.x.len(),
+                    d.survey_lines().len()
+                ),
                 None => "no survey loaded".into(),
             },
             Step::Corrections => v

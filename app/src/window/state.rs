@@ -273,6 +273,21 @@ impl Doc {
         v
     }
 
+    /// The survey's line names, sorted, each once (made once per change).
+    pub fn survey_lines(&self) -> Rc<Vec<String>> {
+        self.derived("survey lines".into(), || {
+            let mut lines: Vec<String> = self
+                .views
+                .gravity_raw
+                .as_ref()
+                .map(|r| r.lines.clone())
+                .unwrap_or_default();
+            lines.sort();
+            lines.dedup();
+            lines
+        })
+    }
+
     /// The constraint arrays of `scenario` on the loaded mesh, built once
     /// per generation of the project and the views (`None` before a mesh).
     pub fn constraint_arrays(

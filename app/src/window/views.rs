@@ -70,14 +70,19 @@ impl Default for ViewState {
 fn extent(app: &FieldstoneApp) -> Option<[f64; 4]> {
     let d = app.doc.as_ref()?;
     if let Some(r) = &d.views.gravity_raw {
-        let (x0, x1) = r.x.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
-            (a.0.min(*v), a.1.max(*v))
+        // Made once per change of the project (a survey may hold millions
+        // of readings).
+        let e = *d.derived("survey extent".into(), || {
+            let (x0, x1) = r.x.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
+                (a.0.min(*v), a.1.max(*v))
+            });
+            let (y0, y1) = r.y.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
+                (a.0.min(*v), a.1.max(*v))
+            });
+            [x0, x1, y0, y1]
         });
-        let (y0, y1) = r.y.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |a, v| {
-            (a.0.min(*v), a.1.max(*v))
-        });
-        if x1 > x0 {
-            return Some([x0, x1, y0, y1]);
+        if e[1] > e[0] {
+            return Some(e);
         }
     }
     let m = d.views.model.as_ref()?;
@@ -157,6 +162,7 @@ fn grid_map(
         }),
         points: points.into(),
         point_colouring: None,
+        points_version: None,
         highlight: vec![],
         lines,
         collars: collars(app),
@@ -211,6 +217,9 @@ pub fn show(app: &mut FieldstoneApp, ui: &mut Ui) {
     }
 }
 
+/// Most readings of a line profile drawn with a marker each.
+const PROFILE_MARKERS: usize = 600;
+
 fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
     let corrections = app.step == Step::Corrections;
     let Some(doc) = app.doc.as_ref() else { return };
@@ -256,6 +265,17 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
         },
     );
     let (values, pts, colouring, terrain_range) = (&survey.0, &survey.1, &survey.2, survey.3);
+    // The dots of these points stay valid while the project, the column and
+    // the colouring option stay as they are.
+    let points_version = {
+        use std::hash::{Hash, Hasher};
+        let mut h = std::collections::hash_map::DefaultHasher::new();
+        (doc.generation, corrections, &col, app.views.equalise).hash(&mut h);
+        h.finish()
+    };
+    let index = doc.derived(format!("survey index|{corrections}"), || {
+        super::index::PointIndex::new(&r.x, &r.y)
+    });
     let line_key = app.views.line.clone().unwrap_or_default();
     let sel = doc.derived(format!("line|{corrections}|{line_key}"), || {
         match &app.views.line {
@@ -290,12 +310,13 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
             }),
             points: std::borrow::Cow::Borrowed(pts.as_slice()),
             point_colouring: Some(std::borrow::Cow::Borrowed(colouring)),
+            points_version: Some(points_version),
+            // A ring on every fourth reading of the chosen line, at most
+            // about a hundred rings.
             highlight: sel
                 .iter()
+                .step_by((sel.len() / 100).max(4))
                 .map(|k| pts[*k].0)
-                .collect::<Vec<_>>()
-                .into_iter()
-                .step_by(4)
                 .collect(),
             lines: traces(app),
             collars: collars(app),
@@ -315,9 +336,9 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
                 app.views.line = r.lines.get(k).cloned();
             }
         }
+        let scale = app.map.scale;
         app.hover = resp.hover.map(|p| {
-            let near = (0..r.x.len())
-                .find(|k| (r.x[*k] - p[0]).hypot(r.y[*k] - p[1]) < 6.0 * app.map.scale);
+            let near = index.nearest_within(&r.x, &r.y, p, 6.0 * scale);
             (p, near.and_then(|k| values.get(k).copied()))
         });
         app.views.units = if corrections {
@@ -367,7 +388,11 @@ fn survey(app: &mut FieldstoneApp, ui: &mut Ui) {
                 format!("line {}", app.views.line.clone().unwrap_or_default()),
                 prof.clone(),
             ));
-            p.points(Points::new("readings", prof.clone()).radius(2.5));
+            // Markers for each reading while they can be told apart; a
+            // line of thousands of readings shows as its curve alone.
+            if prof.len() <= PROFILE_MARKERS {
+                p.points(Points::new("readings", prof.clone()).radius(2.5));
+            }
             if !spikes.is_empty() {
                 p.points(
                     Points::new("flagged (fourth difference)", spikes)
@@ -518,6 +543,7 @@ fn slice_map(
         }),
         points: Default::default(),
         point_colouring: None,
+        points_version: None,
         highlight: app.views.section_at.into_iter().collect(),
         lines,
         collars: collars(app),
@@ -1075,6 +1101,7 @@ fn data_fit(app: &mut FieldstoneApp, ui: &mut Ui) {
                         grid: None,
                         points: p.into(),
                         point_colouring: Some(std::borrow::Cow::Owned(c)),
+                        points_version: None,
                         highlight: vec![],
                         lines: vec![],
                         collars: vec![],
