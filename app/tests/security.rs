@@ -51,6 +51,7 @@ fn the_program_has_no_network_code() {
     }
     let mut files = Vec::new();
     walk(&workspace().join("core/src"), &mut files);
+    walk(&workspace().join("pipeline/src"), &mut files);
     walk(&workspace().join("app/src"), &mut files);
     assert!(files.len() > 20);
     for f in files {
