@@ -19,7 +19,7 @@ fn snapshot_path(name: &str) -> PathBuf {
 fn decode(bytes: &[u8]) -> (u32, u32, Vec<u8>) {
     let dec = png::Decoder::new(std::io::Cursor::new(bytes));
     let mut rd = dec.read_info().unwrap();
-    let mut buf = vec![0; rd.output_buffer_size()];
+    let mut buf = vec![0; rd.output_buffer_size().expect("a PNG of known size")];
     let info = rd.next_frame(&mut buf).unwrap();
     buf.truncate(info.buffer_size());
     (info.width, info.height, buf)

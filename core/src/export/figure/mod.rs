@@ -137,7 +137,11 @@ mod tests {
         assert_eq!(&png[..8], b"\x89PNG\r\n\x1a\n");
         let dec = png::Decoder::new(std::io::Cursor::new(png));
         let mut rd = dec.read_info().unwrap();
-        let mut buf = vec![0; rd.output_buffer_size()];
+        let mut buf = vec![
+            0;
+            rd.output_buffer_size()
+                .expect("an 8-bit RGB image of known size")
+        ];
         rd.next_frame(&mut buf).unwrap();
         assert_eq!(buf, r);
         let svg = f.svg();
