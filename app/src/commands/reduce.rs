@@ -163,13 +163,7 @@ pub fn gravity_job(a: &GravityArgs) -> GravityJob {
             _ => None,
         },
         epsg: a.epsg,
-        base: match (a.base_value, &a.base_station) {
-            (Some(value_mgal), Some(station)) => Some(BaseTie {
-                value_mgal,
-                station: station.clone(),
-            }),
-            _ => None,
-        },
+        base: BaseTie::of(a.base_value, a.base_station.as_deref()),
         max_drift_mgal_per_h: a.max_drift,
         tide: !a.no_tide,
         gravimetric_factor: a.gravimetric_factor,

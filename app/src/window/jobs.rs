@@ -73,7 +73,10 @@ impl Observer for Reporter {
 
 impl Events for Reporter {
     fn step(&self, event: &StepEvent<'_>) {
-        self.send(Event::Line(event.line()));
+        // A failure reaches the log once, as the job's own last line.
+        if !matches!(event, StepEvent::Failed { .. }) {
+            self.send(Event::Line(event.line()));
+        }
     }
 }
 

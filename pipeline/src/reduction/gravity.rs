@@ -44,6 +44,16 @@ pub struct BaseTie {
     pub station: String,
 }
 
+impl BaseTie {
+    /// The tie when both the base value and the base station are given.
+    pub fn of(value_mgal: Option<f64>, station: Option<&str>) -> Option<BaseTie> {
+        Some(BaseTie {
+            value_mgal: value_mgal?,
+            station: station?.to_string(),
+        })
+    }
+}
+
 /// The terrain correction's inputs.
 #[derive(Debug, Clone, PartialEq)]
 pub struct TerrainInputs {

@@ -6,7 +6,7 @@
 //! `appraisal.json`, `doi.npy` and `doi.vtr` (the index as a model) and one
 //! `held_<test>.npy` per feature test into the run folder.
 
-use super::{Stage, StepJob};
+use super::{planned_run_dir, planned_scenario, Stage, StepJob};
 use crate::context::Context;
 use crate::data::write_text;
 use crate::error::Result;
@@ -45,15 +45,15 @@ impl Stage for Appraisal {
         s.is_some_and(|s| s.appraisal.is_some())
     }
     fn parameters(&self, _p: &ProjectFile, s: Option<&Scenario>) -> String {
-        s.expect("per-scenario step")
+        planned_scenario(s)
             .appraisal
             .as_ref()
             .map(hash_json)
             .unwrap_or_default()
     }
     fn outputs(&self, dir: &Path, _p: &ProjectFile, s: Option<&Scenario>) -> Vec<PathBuf> {
-        let s = s.expect("per-scenario step");
-        let rd = run_dir(dir, &s.name);
+        let rd = planned_run_dir(dir, s);
+        let s = planned_scenario(s);
         let mut outputs = vec![rd.join("appraisal.json")];
         if s.appraisal
             .as_ref()

@@ -2,7 +2,7 @@
 //! the mesh (bounds, reference and its weight, starting model, fixed
 //! cells; `runs/<scenario>/constraints.vtr`).
 
-use super::{Stage, StepJob};
+use super::{planned_run_dir, planned_scenario, Stage, StepJob};
 use crate::context::ModelContext;
 use crate::error::Result;
 use crate::paths::run_dir;
@@ -28,12 +28,11 @@ impl Stage for Constraints {
         true
     }
     fn parameters(&self, _p: &ProjectFile, s: Option<&Scenario>) -> String {
-        let s = s.expect("per-scenario step");
+        let s = planned_scenario(s);
         hash_json(&(&s.layers, s.data))
     }
     fn outputs(&self, dir: &Path, _p: &ProjectFile, s: Option<&Scenario>) -> Vec<PathBuf> {
-        let s = s.expect("per-scenario step");
-        vec![run_dir(dir, &s.name).join("constraints.vtr")]
+        vec![planned_run_dir(dir, s).join("constraints.vtr")]
     }
     fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
         let s = job.scenario()?;

@@ -2,7 +2,7 @@
 //! predicted and misfit grids, sections and plan slices as CSV, GeoTIFF and
 //! figures (`runs/<scenario>/exports.json` lists them).
 
-use super::{Stage, StepJob};
+use super::{planned_run_dir, Stage, StepJob};
 use crate::context::Context;
 use crate::data::write_text;
 use crate::error::{Error, Result};
@@ -36,7 +36,7 @@ impl Stage for Exports {
         hash_json(&p.exports)
     }
     fn outputs(&self, dir: &Path, _p: &ProjectFile, s: Option<&Scenario>) -> Vec<PathBuf> {
-        vec![run_dir(dir, &s.expect("per-scenario step").name).join("exports.json")]
+        vec![planned_run_dir(dir, s).join("exports.json")]
     }
     fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
         let s = job.scenario()?;

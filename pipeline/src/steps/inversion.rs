@@ -2,7 +2,7 @@
 //! and settings (`runs/<scenario>/`: model.npy and .vtr, summary.json,
 //! log.csv and log.json, predicted.csv).
 
-use super::{Stage, StepJob};
+use super::{planned_run_dir, planned_scenario, Stage, StepJob};
 use crate::context::Context;
 use crate::data::write_text;
 use crate::error::Result;
@@ -32,7 +32,7 @@ impl Stage for Inversion {
         true
     }
     fn parameters(&self, p: &ProjectFile, s: Option<&Scenario>) -> String {
-        let s = s.expect("per-scenario step");
+        let s = planned_scenario(s);
         // The default heights leave the hash as it was before the field
         // existed, so runs recorded then stay up to date.
         if s.fft_heights == Default::default() {
@@ -48,7 +48,7 @@ impl Stage for Inversion {
         }
     }
     fn outputs(&self, dir: &Path, _p: &ProjectFile, s: Option<&Scenario>) -> Vec<PathBuf> {
-        let rd = run_dir(dir, &s.expect("per-scenario step").name);
+        let rd = planned_run_dir(dir, s);
         [
             "model.npy",
             "model.vtr",

@@ -99,6 +99,17 @@ pub fn stage(key: &str) -> Option<&'static dyn Stage> {
     REGISTRY.iter().copied().find(|s| s.key() == base)
 }
 
+/// The scenario a per-scenario step is planned for (the planner always
+/// passes one to such steps).
+pub(crate) fn planned_scenario(s: Option<&Scenario>) -> &Scenario {
+    s.expect("the planner passes the scenario to every per-scenario step")
+}
+
+/// The run folder of the scenario a per-scenario step is planned for.
+pub(crate) fn planned_run_dir(dir: &Path, s: Option<&Scenario>) -> PathBuf {
+    crate::paths::run_dir(dir, &planned_scenario(s).name)
+}
+
 /// The data kinds a project holds, with their point file, value column and
 /// units: (kind, points file, value column, units).
 pub(crate) fn kinds(

@@ -89,13 +89,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                     _ => None,
                 },
                 epsg: p.epsg,
-                base: match (g.base_value_mgal, &g.base_station) {
-                    (Some(value_mgal), Some(station)) => Some(BaseTie {
-                        value_mgal,
-                        station: station.clone(),
-                    }),
-                    _ => None,
-                },
+                base: BaseTie::of(g.base_value_mgal, g.base_station.as_deref()),
                 max_drift_mgal_per_h: g.max_drift_mgal_per_h,
                 tide: g.tide,
                 gravimetric_factor: g.gravimetric_factor,
