@@ -6,6 +6,7 @@
 use egui::accesskit::Role;
 use egui_kittest::kittest::Queryable;
 use egui_kittest::Harness;
+use fieldstone::window::panels::ResultView;
 use fieldstone::window::{setup_fonts, FieldstoneApp, Step};
 use fieldstone_core::constraint::region::Region;
 use fieldstone_core::demo::{write_demo, DemoSize};
@@ -21,15 +22,21 @@ fn demo(name: &str) -> PathBuf {
     d
 }
 
+/// The window on `dir`, with the project's tables, grids and runs read
+/// (the window reads them off the frame; the tests wait for them).
 fn harness(dir: &Path) -> Harness<'static, FieldstoneApp> {
     let dir = dir.to_path_buf();
-    Harness::builder()
+    let mut h = Harness::builder()
         .with_size([1400.0, 900.0])
         .with_max_steps(20)
         .build_eframe(move |cc| {
             setup_fonts(&cc.egui_ctx);
             FieldstoneApp::with(Some(&dir), false)
-        })
+        });
+    if let Some(d) = h.state_mut().ws.doc.as_mut() {
+        d.wait_loaded();
+    }
+    h
 }
 
 /// Clicks the step of that name in the step list (the first widget with the label).
@@ -62,13 +69,13 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     let mut h = harness(&dir);
     h.run_steps(3);
     assert!(
-        h.state().doc.is_some(),
+        h.state().ws.doc.is_some(),
         "the demo project did not open: {:?}",
-        h.state().dialog
+        h.state().ws.dialog
     );
     // The title and the cautions are there.
     assert_eq!(
-        h.state().doc.as_ref().unwrap().project.name,
+        h.state().ws.doc.as_ref().unwrap().project.name,
         "Harrow Fen (invented demo)"
     );
     for (s, form_widget) in [
@@ -87,12 +94,12 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
             "step {s}: no '{form_widget}' in its form"
         );
     }
-    assert_eq!(h.state().step, Step::Results);
+    assert_eq!(h.state().ws.step, Step::Results);
 
     // Draw a triangle on the constraint map and close it: a new polygon layer
     // with an upper bound.
     step(&mut h, "Constraints");
-    let before = h.state().doc.as_ref().unwrap().project.scenarios[0]
+    let before = h.state().ws.doc.as_ref().unwrap().project.scenarios[0]
         .layers
         .len();
     h.get_by_label("Draw polygon on the map").click();
@@ -101,13 +108,18 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
         click_at(&mut h, x, y);
     }
     assert_eq!(
-        h.state().forms.drawing.as_ref().map(|v| v.len()),
+        h.state()
+            .panels
+            .constraints
+            .drawing
+            .as_ref()
+            .map(|v| v.len()),
         Some(3),
         "map clicks did not add vertices"
     );
     h.get_by_label("Close polygon").click();
     h.run_steps(3);
-    let layers = &h.state().doc.as_ref().unwrap().project.scenarios[0].layers;
+    let layers = &h.state().ws.doc.as_ref().unwrap().project.scenarios[0].layers;
     assert_eq!(layers.len(), before + 1);
     let l = layers.last().unwrap();
     assert!(
@@ -122,7 +134,7 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     h.get_by_label("Undo  (Ctrl+Z)").click();
     h.run_steps(2);
     assert_eq!(
-        h.state().doc.as_ref().unwrap().project.scenarios[0]
+        h.state().ws.doc.as_ref().unwrap().project.scenarios[0]
             .layers
             .len(),
         before
@@ -132,7 +144,7 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     h.get_by_label("Redo  (Ctrl+Y)").click();
     h.run_steps(2);
     assert_eq!(
-        h.state().doc.as_ref().unwrap().project.scenarios[0]
+        h.state().ws.doc.as_ref().unwrap().project.scenarios[0]
             .layers
             .len(),
         before + 1
@@ -143,38 +155,41 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     h.get_by_label("Run").click();
     h.step();
     assert!(
-        h.state().job.as_ref().is_some_and(|j| j.running()),
+        h.state().ws.job.as_ref().is_some_and(|j| j.running()),
         "no run started"
     );
     let mut saw_iterations = false;
     let t = Instant::now();
-    while h.state().job.is_some() {
+    while h.state().ws.job.is_some() {
         assert!(
             t.elapsed() < Duration::from_secs(180),
             "the run did not finish:\n{}",
-            h.state().log.join("\n")
+            h.state().ws.log.join("\n")
         );
         std::thread::sleep(Duration::from_millis(50));
         h.step();
         saw_iterations |= h
             .state()
+            .ws
             .job
             .as_ref()
             .is_some_and(|j| !j.iterations.is_empty());
     }
     let app = h.state();
     assert!(
-        app.log
+        app.ws
+            .log
             .iter()
             .any(|l| l.contains("inversion/smooth") && l.contains("chi-factor")),
         "{}",
-        app.log.join("\n")
+        app.ws.log.join("\n")
     );
     assert!(
-        saw_iterations || !app.views.last_iterations.is_empty(),
+        saw_iterations || !app.ws.last_iterations.is_empty(),
         "the run log never filled"
     );
     let run = app
+        .ws
         .doc
         .as_ref()
         .unwrap()
@@ -193,16 +208,31 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     // The section view can outline the cells and shows drill holes.
     h.get_by_label("Cell edges").click();
     h.run_steps(2);
-    assert!(h.state().views.cell_edges);
+    assert!(h.state().ws.display.cell_edges);
     assert!(h.query_by_label("Drill holes").is_some());
     h.get_by_label("Export section PNG").click();
     h.run_steps(2);
+    // The figure is written by a background job; its line reaches the log.
+    let t0 = Instant::now();
+    while h.state().ws.job.is_some() && t0.elapsed() < Duration::from_secs(60) {
+        std::thread::sleep(Duration::from_millis(20));
+        h.step();
+    }
+    assert!(
+        h.state()
+            .ws
+            .log
+            .iter()
+            .any(|l| l.contains("window_section_ew.png")),
+        "{}",
+        h.state().ws.log.join("\n")
+    );
     let png = dir.join("runs/smooth/window_section_ew.png");
     let bytes = std::fs::read(&png).unwrap_or_else(|e| {
         panic!(
             "{}: {e}; message {:?}",
             png.display(),
-            h.state().forms.export_message
+            h.state().panels.results.export_message
         )
     });
     assert_eq!(&bytes[..8], b"\x89PNG\r\n\x1a\n");
@@ -222,8 +252,11 @@ fn every_step_shows_its_form_and_a_run_goes_from_polygon_to_exported_section() {
     // listed in the form.
     h.get_by_label("Depth of investigation").click();
     h.run_steps(3);
-    assert_eq!(h.state().views.result_view, 5);
-    let run = &h.state().doc.as_ref().unwrap().views.runs["smooth"];
+    assert_eq!(
+        h.state().panels.results.view,
+        ResultView::DepthOfInvestigation
+    );
+    let run = &h.state().ws.doc.as_ref().unwrap().views.runs["smooth"];
     assert!(run.doi.is_some() && run.appraisal.is_some());
     assert!(h.query_by_label("Is this feature required?").is_some());
     assert!(h.query_by_label_contains("layer medians").is_some());
@@ -252,7 +285,13 @@ fn a_csv_is_imported_through_the_form_with_a_role_changed() {
     h.run_steps(2);
     h.get_by_label("Preview").click();
     h.run_steps(3);
-    let pv = h.state().forms.import_preview.clone().expect("no preview");
+    let pv = h
+        .state()
+        .panels
+        .survey
+        .import_preview
+        .clone()
+        .expect("no preview");
     assert_eq!(pv.n_rows, 3);
     // The station column is guessed; the user sets it to be ignored.
     h.get_by_value("station").click();
@@ -261,13 +300,13 @@ fn a_csv_is_imported_through_the_form_with_a_role_changed() {
     h.run_steps(2);
     h.get_by_label("Import as gravity survey").click();
     h.run_steps(3);
-    let p = &h.state().doc.as_ref().unwrap().project;
+    let p = &h.state().ws.doc.as_ref().unwrap().project;
     let g = p.gravity.as_ref().unwrap();
     assert_eq!(
         g.file,
         "inputs/crew_gravity_imported.csv",
         "{:?}",
-        h.state().forms.import_message
+        h.state().panels.survey.import_message
     );
     let text = std::fs::read_to_string(dir.join(&g.file)).unwrap();
     assert!(
@@ -283,7 +322,7 @@ fn unsaved_edits_are_autosaved_and_offered_at_the_next_start() {
     let dir = demo("autosave");
     {
         let mut app = FieldstoneApp::with(Some(&dir), false);
-        let d = app.doc.as_mut().expect("the demo opens");
+        let d = app.ws.doc.as_mut().expect("the demo opens");
         d.before_edit();
         d.project.name = "edited, not saved".into();
         d.autosave().unwrap();
@@ -293,16 +332,16 @@ fn unsaved_edits_are_autosaved_and_offered_at_the_next_start() {
     h.run_steps(3);
     assert!(
         matches!(
-            h.state().dialog,
+            h.state().ws.dialog,
             Some(fieldstone::window::Dialog::Recover(_))
         ),
         "{:?}",
-        h.state().dialog
+        h.state().ws.dialog
     );
     h.get_by_label("Recover").click();
     h.run_steps(3);
     assert_eq!(
-        h.state().doc.as_ref().unwrap().project.name,
+        h.state().ws.doc.as_ref().unwrap().project.name,
         "edited, not saved"
     );
     // Nothing is written over the project until the user saves.
@@ -333,6 +372,7 @@ fn idle_frames_derive_nothing_and_one_edit_derives_once() {
     // A scenario with constraint layers, so the arrays are not trivial.
     let with_layers = h
         .state()
+        .ws
         .doc
         .as_ref()
         .unwrap()
@@ -341,11 +381,11 @@ fn idle_frames_derive_nothing_and_one_edit_derives_once() {
         .iter()
         .position(|s| !s.layers.is_empty())
         .expect("a demo scenario with layers");
-    h.state_mut().scenario = with_layers;
+    h.state_mut().ws.scenario = with_layers;
     let settle = |h: &mut Harness<FieldstoneApp>| {
         let t = Instant::now();
         h.run_steps(5);
-        while h.state().doc.as_ref().unwrap().planning() {
+        while h.state().ws.doc.as_ref().unwrap().planning() {
             assert!(
                 t.elapsed() < Duration::from_secs(60),
                 "planning never ended"
@@ -357,7 +397,7 @@ fn idle_frames_derive_nothing_and_one_edit_derives_once() {
     };
     settle(&mut h);
     let counts = |h: &Harness<FieldstoneApp>| {
-        let d = h.state().doc.as_ref().unwrap();
+        let d = h.state().ws.doc.as_ref().unwrap();
         (
             d.plans_started.get(),
             d.constraint_builds.get(),
@@ -372,7 +412,7 @@ fn idle_frames_derive_nothing_and_one_edit_derives_once() {
     assert_eq!(counts(&h), before, "idle frames derived data again");
     // One edit: the first layer's reference weight doubled.
     {
-        let d = h.state_mut().doc.as_mut().unwrap();
+        let d = h.state_mut().ws.doc.as_mut().unwrap();
         d.before_edit();
         let a = &mut d.project.scenarios[with_layers].layers[0].assign;
         a.reference_weight = Some(a.reference_weight.unwrap_or(1.0) * 2.0);

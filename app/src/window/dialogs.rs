@@ -4,7 +4,9 @@ use super::*;
 
 impl FieldstoneApp {
     pub(super) fn dialogs(&mut self, ctx: &egui::Context) {
-        let Some(d) = self.dialog.clone() else { return };
+        let Some(d) = self.ws.dialog.clone() else {
+            return;
+        };
         let mut open = true;
         let title = match &d {
             Dialog::About => "About Fieldstone",
@@ -32,7 +34,7 @@ impl FieldstoneApp {
                     ui.label("Closing now cancels the run. The project keeps every step that finished.");
                     ui.horizontal(|ui| {
                         if ui.button("Cancel the run and close").clicked() {
-                            if let Some(j) = self.job.as_mut() {
+                            if let Some(j) = self.ws.job.as_mut() {
                                 j.cancel();
                                 j.wait();
                             }
@@ -49,15 +51,15 @@ impl FieldstoneApp {
                     ui.label("Fieldstone closed with unsaved changes to this project last time. Recover them?");
                     ui.horizontal(|ui| {
                         if ui.button("Recover").clicked() {
-                            if let (Some(doc), Ok(text)) = (self.doc.as_mut(), std::fs::read_to_string(path)) {
+                            if let (Some(doc), Ok(text)) = (self.ws.doc.as_mut(), std::fs::read_to_string(path)) {
                                 match serde_json::from_str(&text) {
                                     Ok(p) => {
                                         doc.before_edit();
                                         doc.project = p;
                                         doc.changed();
-                                        self.log.push("recovered the autosaved changes (not saved yet)".into());
+                                        self.ws.log.push("recovered the autosaved changes (not saved yet)".into());
                                     }
-                                    Err(e) => self.log.push(format!("the autosave could not be read: {e}")),
+                                    Err(e) => self.ws.log.push(format!("the autosave could not be read: {e}")),
                                 }
                             }
                             close = true;
@@ -74,7 +76,7 @@ impl FieldstoneApp {
             }
         });
         if !open || close {
-            self.dialog = None;
+            self.ws.dialog = None;
         }
     }
 }

@@ -92,6 +92,8 @@ pub struct Job {
     pub result: Option<Result<String, Failure>>,
     /// The views loaded after the work, when the job was asked to.
     pub loaded: Option<Box<super::state::Views>>,
+    /// True when the job loads the views after its work (a pipeline run).
+    pub reloads: bool,
     handle: Option<std::thread::JoinHandle<()>>,
 }
 
@@ -110,6 +112,7 @@ impl Job {
         work: impl FnOnce(&dyn Events) -> Result<String, Error> + Send + 'static,
     ) -> Job {
         let (tx, rx) = channel();
+        let reloads = reload.is_some();
         let cancel = Arc::new(AtomicBool::new(false));
         let rep = Reporter {
             tx: std::sync::Mutex::new(tx),
@@ -141,6 +144,7 @@ impl Job {
             progress: None,
             result: None,
             loaded: None,
+            reloads,
             handle: Some(handle),
         }
     }

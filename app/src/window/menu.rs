@@ -17,7 +17,7 @@ impl FieldstoneApp {
                 if ui.button("Open the demo project").clicked() {
                     match demo_project() {
                         Ok(d) => self.open(&d),
-                        Err(e) => self.dialog = Some(Dialog::Error(e)),
+                        Err(e) => self.ws.dialog = Some(Dialog::Error(e)),
                     }
                 }
                 ui.menu_button("Recent", |ui| {
@@ -39,7 +39,7 @@ impl FieldstoneApp {
                         );
                         match p.save(&d) {
                             Ok(()) => self.open(&d),
-                            Err(e) => self.dialog = Some(Dialog::Error(e.to_string())),
+                            Err(e) => self.ws.dialog = Some(Dialog::Error(e.to_string())),
                         }
                     }
                 }
@@ -56,7 +56,7 @@ impl FieldstoneApp {
                 }
                 ui.separator();
                 if ui.button("Export the selected run…").clicked() {
-                    self.step = Step::Results;
+                    self.ws.step = Step::Results;
                 }
             });
             ui.menu_button("Edit", |ui| {
@@ -71,36 +71,39 @@ impl FieldstoneApp {
                 ui.checkbox(&mut self.show_log, "Run log");
                 ui.checkbox(&mut self.show_frame_time, "Frame time");
                 if ui.button("Fit the map").clicked() {
-                    self.map.fitted = false;
+                    self.ws.map.fitted = false;
                 }
             });
             ui.menu_button("Help", |ui| {
                 if ui.button("About").clicked() {
-                    self.dialog = Some(Dialog::About);
+                    self.ws.dialog = Some(Dialog::About);
                 }
                 if ui.button("Keyboard shortcuts").clicked() {
-                    self.dialog = Some(Dialog::Shortcuts);
+                    self.ws.dialog = Some(Dialog::Shortcuts);
                 }
                 if ui.button("Cautions").clicked() {
-                    self.dialog = Some(Dialog::Cautions);
+                    self.ws.dialog = Some(Dialog::Cautions);
                 }
             });
         });
     }
 
     pub fn save(&mut self) {
-        if let Some(d) = self.doc.as_mut() {
+        if let Some(d) = self.ws.doc.as_mut() {
             match d.save() {
                 Ok(()) => self
+                    .ws
                     .log
                     .push(format!("saved {}", d.dir.join("project.json").display())),
-                Err(e) => self.dialog = Some(Dialog::Error(e)),
+                Err(e) => self.ws.dialog = Some(Dialog::Error(e)),
             }
         }
     }
 
     pub(super) fn save_as(&mut self, to: &Path) {
-        let Some(d) = self.doc.as_ref() else { return };
+        let Some(d) = self.ws.doc.as_ref() else {
+            return;
+        };
         // Copy the inputs the project names, then write the project there.
         let p = &d.project;
         let files = p.input_files();
@@ -112,7 +115,7 @@ impl FieldstoneApp {
                 let _ = std::fs::create_dir_all(parent);
             }
             if let Err(e) = std::fs::copy(&a, &b) {
-                self.dialog = Some(Dialog::Error(format!(
+                self.ws.dialog = Some(Dialog::Error(format!(
                     "could not copy {}: {e}",
                     a.display()
                 )));
@@ -123,12 +126,12 @@ impl FieldstoneApp {
         proj.provenance.clear();
         match proj.save(to) {
             Ok(()) => self.open(to),
-            Err(e) => self.dialog = Some(Dialog::Error(e.to_string())),
+            Err(e) => self.ws.dialog = Some(Dialog::Error(e.to_string())),
         }
     }
 
     pub(super) fn undo(&mut self, redo: bool) {
-        if let Some(d) = self.doc.as_mut() {
+        if let Some(d) = self.ws.doc.as_mut() {
             let done = if redo { d.redo() } else { d.undo() };
             if done {
                 d.changed();
@@ -145,10 +148,11 @@ impl FieldstoneApp {
                 i.key_pressed(egui::Key::F5),
             )
         });
-        if f5 && !self.job.as_ref().is_some_and(|j| j.running()) {
-            let name = self.scenario_name();
+        if f5 && !self.ws.job.as_ref().is_some_and(|j| j.running()) {
+            let name = self.ws.scenario_name();
             if !name.is_empty() {
-                self.start_pipeline(Selection::Named(name), false, Some(ctx.clone()));
+                self.ws
+                    .start_pipeline(Selection::Named(name), false, Some(ctx.clone()));
             }
         }
         if s {
@@ -175,11 +179,11 @@ impl FieldstoneApp {
                 .extension()
                 .is_some_and(|e| e.eq_ignore_ascii_case("csv") || e.eq_ignore_ascii_case("txt"))
             {
-                self.step = Step::Survey;
-                self.forms.import_path = p.display().to_string();
-                self.forms.import_preview = None;
+                self.ws.step = Step::Survey;
+                self.panels.survey.import_path = p.display().to_string();
+                self.panels.survey.import_preview = None;
             } else {
-                self.log.push(format!(
+                self.ws.log.push(format!(
                     "{} is not a project folder or a table; drop a project folder or a CSV file",
                     p.display()
                 ));

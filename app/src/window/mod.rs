@@ -2,28 +2,27 @@
 //! left, the step's form on the right, its views in the centre, the run log
 //! at the bottom, a status bar with the cursor position.
 
-mod appraise_form;
 mod canvas;
+mod chrome;
 mod dialogs;
-mod forms;
 mod index;
 pub mod jobs;
 mod menu;
-mod panels;
+pub mod panels;
 mod recent;
 pub mod state;
-mod views;
+pub mod workspace;
 
+use panels::Panels;
 use recent::remember;
 pub use recent::{demo_project, recent_projects};
-pub use views::ViewState;
+use workspace::Workspace;
 
 use crate::commands::CAUTIONS;
 use crate::pipeline::{self, Selection};
-use canvas::{MapFrame, Textures};
+use canvas::Textures;
 use egui::{Color32, RichText};
 use fieldstone_core::project::provenance::StepState;
-use jobs::Job;
 use state::{autosave_path, Doc};
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
@@ -91,22 +90,13 @@ pub enum Dialog {
     Error(String),
 }
 
-/// Everything the window remembers between frames.
+/// Everything the window remembers between frames: what the panels share
+/// (the open project, the job, the map), the panels of the steps, and the
+/// window's own settings.
 pub struct FieldstoneApp {
-    pub doc: Option<Doc>,
-    pub step: Step,
-    pub scenario: usize,
-    pub job: Option<Job>,
-    /// The log of the last job (kept when it ends), and messages.
-    pub log: Vec<String>,
-    pub failed_step: Option<String>,
-    pub map: MapFrame,
-    pub textures: Textures,
-    pub hover: Option<([f64; 2], Option<f64>)>,
+    pub ws: Workspace,
+    pub panels: Panels,
     pub show_log: bool,
-    pub dialog: Option<Dialog>,
-    pub forms: forms::FormState,
-    pub views: views::ViewState,
     last_autosave: Instant,
     pub frame_ms: f32,
     /// With FIELDSTONE_FRAME_LOG set: every frame's times go to that file
@@ -131,19 +121,9 @@ impl FieldstoneApp {
     /// A window on `project`; `remember` adds it to the recent list.
     pub fn with(project: Option<&Path>, remember: bool) -> FieldstoneApp {
         let mut app = FieldstoneApp {
-            doc: None,
-            step: Step::Survey,
-            scenario: 0,
-            job: None,
-            log: vec![],
-            failed_step: None,
-            map: MapFrame::default(),
-            textures: Textures::default(),
-            hover: None,
+            ws: Workspace::default(),
+            panels: Panels::default(),
             show_log: true,
-            dialog: None,
-            forms: forms::FormState::default(),
-            views: views::ViewState::default(),
             last_autosave: Instant::now(),
             frame_ms: 0.0,
             frame_log: std::env::var_os("FIELDSTONE_FRAME_LOG")
@@ -176,209 +156,31 @@ impl FieldstoneApp {
             Ok(d) => {
                 let auto = autosave_path(&dir);
                 if auto.exists() {
-                    self.dialog = Some(Dialog::Recover(auto));
+                    self.ws.dialog = Some(Dialog::Recover(auto));
                 }
                 if let Some(why) = &d.read_only {
-                    self.log.push(format!("read-only: {why}"));
+                    self.ws.log.push(format!("read-only: {why}"));
                 }
-                self.log.push(format!("opened {}", dir.display()));
+                self.ws.log.push(format!("opened {}", dir.display()));
                 if d.states.iter().all(|(_, st)| *st != StepState::Done) {
-                    self.log.push("nothing has been run in this project yet: check each step's form, then press 'Run every scenario' (the full demo takes about 11 minutes on two cores)".into());
+                    self.ws.log.push("nothing has been run in this project yet: check each step's form, then press 'Run every scenario' (the full demo takes about 11 minutes on two cores)".into());
                 }
                 if self.remember_recent {
                     remember(&dir);
                 }
-                self.doc = Some(d);
-                self.map.fitted = false;
-                self.scenario = 0;
-                self.textures = Textures::default();
+                self.ws.doc = Some(d);
+                self.ws.map.fitted = false;
+                self.ws.scenario = 0;
+                self.ws.textures = Textures::default();
+                // A new project starts with every panel's choices fresh.
+                self.panels = Panels::default();
             }
             Err(e) => {
-                self.dialog = Some(Dialog::Error(format!(
+                self.ws.dialog = Some(Dialog::Error(format!(
                     "could not open {}: {e}",
                     dir.display()
                 )))
             }
-        }
-    }
-
-    pub fn scenario_name(&self) -> String {
-        self.doc
-            .as_ref()
-            .and_then(|d| d.project.scenarios.get(self.scenario))
-            .map(|s| s.name.clone())
-            .unwrap_or_default()
-    }
-
-    /// Starts the pipeline for `which` in the background.
-    pub fn start_pipeline(&mut self, which: Selection, force: bool, ctx: Option<egui::Context>) {
-        if self.job.as_ref().is_some_and(|j| j.running()) {
-            return;
-        }
-        let Some(doc) = self.doc.as_mut() else { return };
-        if doc.dirty() {
-            if let Err(e) = doc.save() {
-                self.dialog = Some(Dialog::Error(e));
-                return;
-            }
-        }
-        let dir = doc.dir.clone();
-        let title = match &which {
-            Selection::Named(n) => format!("run of scenario {n}"),
-            Selection::All => "run of every scenario".into(),
-            _ => "shared steps".into(),
-        };
-        self.log.clear();
-        self.failed_step = None;
-        let reload = Some((dir.clone(), doc.project.clone()));
-        self.job = Some(Job::start(&title, ctx, reload, move |obs| {
-            let r = pipeline::run(&dir, &which, force, obs)?;
-            Ok(format!(
-                "{} steps ran, {} up to date",
-                r.ran(),
-                r.steps.len() - r.ran()
-            ))
-        }));
-    }
-
-    /// Takes job events; reloads the project when a job ends.
-    pub fn poll_job(&mut self) {
-        let Some(job) = self.job.as_mut() else { return };
-        job.poll();
-        if let Some(r) = job.result.clone() {
-            self.log.append(&mut job.lines);
-            match r {
-                Ok(m) => self.log.push(format!("{} finished: {m}", job.title)),
-                Err(e) => {
-                    self.failed_step = e.step.clone();
-                    let how = if e.cancelled { "stopped" } else { "failed" };
-                    self.log.push(format!("{} {how}: {}", job.title, e.message));
-                }
-            }
-            let iterations = std::mem::take(&mut job.iterations);
-            let loaded = job.loaded.take();
-            self.views.last_iterations = iterations;
-            self.job = None;
-            if let Some(d) = self.doc.as_mut() {
-                // The pipeline saved provenance; take it without losing edits.
-                if let Ok(l) = fieldstone_core::project::file::ProjectFile::load(&d.dir) {
-                    d.project.provenance = l.project.provenance.clone();
-                    d.saved.provenance = l.project.provenance;
-                }
-                match loaded {
-                    Some(v) => d.take_views(*v),
-                    None => d.reload(),
-                }
-            }
-            self.textures = Textures::default();
-        }
-    }
-
-    fn state_label(&self, step: Step) -> (&'static str, Color32) {
-        let Some(d) = &self.doc else {
-            return ("—", Color32::GRAY);
-        };
-        let key = step.key(&self.scenario_name());
-        if self.failed_step.as_deref() == Some(key.as_str()) {
-            return ("failed", Color32::from_rgb(190, 40, 40));
-        }
-        let prev_done = Step::ALL
-            .iter()
-            .position(|s| *s == step)
-            .map(|i| {
-                i == 0
-                    || d.state_of(&Step::ALL[i - 1].key(&self.scenario_name()))
-                        == Some(StepState::Done)
-            })
-            .unwrap_or(false);
-        match d.state_of(&key) {
-            Some(StepState::Done) => ("done", Color32::from_rgb(40, 130, 60)),
-            Some(StepState::Stale) => ("stale", Color32::from_rgb(200, 120, 0)),
-            _ if prev_done => ("ready", Color32::from_rgb(40, 90, 170)),
-            _ => ("not started", Color32::GRAY),
-        }
-    }
-
-    fn summary(&self, step: Step) -> String {
-        let Some(d) = &self.doc else {
-            return String::new();
-        };
-        let v = &d.views;
-        match step {
-            Step::Survey => match &v.gravity_raw {
-                Some(r) => format!(
-                    "{} gravity readings, {} lines",
-                    r.x.len(),
-                    d.survey_lines().len()
-                ),
-                None => "no survey loaded".into(),
-            },
-            Step::Corrections => v
-                .gravity_reduced
-                .as_ref()
-                .map(|r| {
-                    format!(
-                        "{} rows reduced at {} g/cm³",
-                        r.x.len(),
-                        d.project
-                            .gravity_reduction
-                            .map(|g| g.density_g_cc)
-                            .unwrap_or(2.67)
-                    )
-                })
-                .unwrap_or_else(|| "not reduced yet".into()),
-            Step::Grids => v
-                .grids
-                .get("gravity_grid")
-                .map(|g| format!("{} × {} nodes at {} m", g.nx, g.ny, g.dx))
-                .unwrap_or_else(|| "no grid yet".into()),
-            Step::Regional => match &d.project.regional {
-                Some(fieldstone_core::filter::regional::RegionalMethod::Trend(t)) => {
-                    format!("order-{} trend", t.order)
-                }
-                Some(fieldstone_core::filter::regional::RegionalMethod::UpwardContinuation {
-                    height_m,
-                }) => format!("upward continuation {height_m} m"),
-                Some(fieldstone_core::filter::regional::RegionalMethod::Plane { .. }) => {
-                    "known plane".into()
-                }
-                None => "none set".into(),
-            },
-            Step::ModelSpace => v
-                .model
-                .as_ref()
-                .map(|m| {
-                    let [a, b, c] = m.mesh.shape();
-                    format!("{a} × {b} × {c} cells, {} active", m.active.count())
-                })
-                .unwrap_or_else(|| "no mesh".into()),
-            Step::Constraints => d
-                .project
-                .scenarios
-                .get(self.scenario)
-                .map(|s| {
-                    format!(
-                        "{}: {} layers",
-                        s.name,
-                        s.layers.iter().filter(|l| l.enabled).count()
-                    )
-                })
-                .unwrap_or_default(),
-            Step::Runs => v
-                .runs
-                .get(&self.scenario_name())
-                .map(|r| {
-                    format!(
-                        "chi-factor {:.3}, {} iterations",
-                        r.file.summary.chi_factor, r.file.summary.iterations
-                    )
-                })
-                .unwrap_or_else(|| "not run".into()),
-            Step::Results => format!(
-                "{} of {} scenarios run",
-                v.runs.len(),
-                d.project.scenarios.len()
-            ),
         }
     }
 }
@@ -387,35 +189,36 @@ impl eframe::App for FieldstoneApp {
     fn ui(&mut self, ui: &mut egui::Ui, frame: &mut eframe::Frame) {
         let t0 = Instant::now();
         let ctx = ui.ctx().clone();
-        self.poll_job();
-        if let Some(d) = self.doc.as_mut() {
+        self.ws.poll_job();
+        if let Some(d) = self.ws.doc.as_mut() {
             d.poll();
-            if d.planning() {
+            if d.planning() || d.loading() {
                 ctx.request_repaint_after(std::time::Duration::from_millis(50));
             }
         }
-        if self.job.as_ref().is_some_and(|j| j.running()) {
+        if self.ws.job.as_ref().is_some_and(|j| j.running()) {
             ctx.request_repaint_after(std::time::Duration::from_millis(100));
         }
         if ctx.input(|i| i.viewport().close_requested())
             && !self.allow_close
-            && self.job.as_ref().is_some_and(|j| j.running())
+            && self.ws.job.as_ref().is_some_and(|j| j.running())
         {
             ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
-            self.dialog = Some(Dialog::ConfirmClose);
+            self.ws.dialog = Some(Dialog::ConfirmClose);
         }
         self.shortcuts(&ctx);
         if self.last_autosave.elapsed().as_secs() >= 30 {
             self.last_autosave = Instant::now();
-            if let Some(d) = &self.doc {
+            if let Some(d) = &self.ws.doc {
                 if let Err(e) = d.autosave() {
-                    self.log.push(format!("autosave failed: {e}"));
+                    self.ws.log.push(format!("autosave failed: {e}"));
                 }
             }
         }
         let title = format!(
             "Fieldstone — {}",
-            self.doc
+            self.ws
+                .doc
                 .as_ref()
                 .map(|d| d.project.name.clone())
                 .unwrap_or_else(|| "no project".into())
@@ -439,13 +242,13 @@ impl eframe::App for FieldstoneApp {
             .show(ui, |ui| {
                 egui::ScrollArea::vertical()
                     .auto_shrink([false, false])
-                    .show(ui, |ui| forms::show(self, ui));
+                    .show(ui, |ui| self.panels.form(&mut self.ws, ui));
             });
-        egui::CentralPanel::default().show(ui, |ui| views::show(self, ui));
+        egui::CentralPanel::default().show(ui, |ui| self.panels.view(&mut self.ws, ui));
         self.dialogs(&ctx);
         let ui_ms = t0.elapsed().as_secs_f64() * 1000.0;
         self.frame_ms = 0.9 * self.frame_ms + 0.1 * ui_ms as f32;
-        let running = self.job.as_ref().is_some_and(|j| j.running());
+        let running = self.ws.job.as_ref().is_some_and(|j| j.running());
         if let Some((w, start, last)) = self.frame_log.as_mut() {
             let interval = last.map(|l| t0.duration_since(l).as_secs_f64() * 1000.0);
             let _ = writeln!(
@@ -467,11 +270,11 @@ impl eframe::App for FieldstoneApp {
     }
 
     fn on_exit(&mut self, _gl: Option<&eframe::glow::Context>) {
-        if let Some(j) = self.job.as_mut() {
+        if let Some(j) = self.ws.job.as_mut() {
             j.cancel();
             j.wait();
         }
-        if let Some(d) = &self.doc {
+        if let Some(d) = &self.ws.doc {
             let _ = d.autosave();
         }
     }

@@ -82,9 +82,9 @@ pub struct Views {
     pub grids: BTreeMap<String, Arc<Grid2>>,
     /// Data points the inversions fit, by kind (`gravity`, `magnetic`).
     pub data_counts: BTreeMap<String, usize>,
-    pub model: Option<ModelContext>,
+    pub model: Option<Arc<ModelContext>>,
     pub holes: Vec<HoleTrace>,
-    pub runs: BTreeMap<String, RunView>,
+    pub runs: BTreeMap<String, Arc<RunView>>,
     pub problems: Vec<String>,
 }
 
@@ -106,6 +106,8 @@ pub struct Doc {
     /// under way off the frame (its generation and where its answer comes).
     states_generation: Option<u64>,
     planning: Option<(u64, Receiver<PlannedStates>)>,
+    /// Views being read from the folder off the frame.
+    loading: Option<Receiver<Views>>,
     /// The constraint arrays of one scenario at one generation.
     constraints: RefCell<Option<ConstraintCache>>,
     /// How often the plan and the constraint arrays were worked out (the
@@ -153,6 +155,7 @@ impl Doc {
             generation: 0,
             states_generation: None,
             planning: None,
+            loading: None,
             constraints: RefCell::new(None),
             plans_started: Cell::new(0),
             constraint_builds: Cell::new(0),
@@ -227,6 +230,16 @@ impl Doc {
     /// shows the last states until the new ones arrive. One planning at a
     /// time: edits made meanwhile are planned when it ends.
     pub fn poll(&mut self) {
+        if let Some(rx) = &self.loading {
+            match rx.try_recv() {
+                Ok(v) => {
+                    self.loading = None;
+                    self.take_views(v);
+                }
+                Err(std::sync::mpsc::TryRecvError::Empty) => {}
+                Err(std::sync::mpsc::TryRecvError::Disconnected) => self.loading = None,
+            }
+        }
         if let Some((generation, rx)) = &self.planning {
             match rx.try_recv() {
                 Ok(r) => {
@@ -316,11 +329,29 @@ impl Doc {
         self.states.iter().find(|(k, _)| k == key).map(|(_, s)| *s)
     }
 
-    /// Loads what the views show from the project folder; missing outputs
-    /// are simply absent.
+    /// Reads what the views show from the project folder on a thread of
+    /// its own (a survey table may take seconds); [`Doc::poll`] takes them.
     pub fn reload(&mut self) {
-        self.views = load_views(&self.dir, &self.project);
-        self.changed();
+        let (tx, rx) = channel();
+        let (dir, project) = (self.dir.clone(), self.project.clone());
+        std::thread::spawn(move || {
+            let _ = tx.send(load_views(&dir, &project));
+        });
+        self.loading = Some(rx);
+    }
+
+    /// True while the views are being read.
+    pub fn loading(&self) -> bool {
+        self.loading.is_some()
+    }
+
+    /// Waits for the views being read (tests, and closing).
+    pub fn wait_loaded(&mut self) {
+        if let Some(rx) = self.loading.take() {
+            if let Ok(v) = rx.recv() {
+                self.take_views(v);
+            }
+        }
     }
 
     /// Takes views loaded off the frame (after a run).
@@ -421,7 +452,7 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
                     });
                 v.runs.insert(
                     s.name.clone(),
-                    RunView {
+                    Arc::new(RunView {
                         file,
                         model,
                         observed,
@@ -429,10 +460,10 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
                         log,
                         doi,
                         appraisal,
-                    },
+                    }),
                 );
             }
-            v.model = Some(m);
+            v.model = Some(Arc::new(m));
         }
         Err(e) => v.problems.push(e.to_string()),
     }

@@ -8,14 +8,12 @@ impl FieldstoneApp {
         ui.heading("Steps");
         ui.add_space(4.0);
         for step in Step::ALL {
-            let (state, colour) = self.state_label(step);
-            let selected = self.step == step;
-            let summary = self.summary(step);
+            let (state, colour) = self.ws.state_label(step);
+            let selected = self.ws.step == step;
+            let summary = self.ws.summary(step);
             let r = ui.selectable_label(selected, RichText::new(step.label()).size(15.0).strong());
             if r.clicked() {
-                self.step = step;
-                // Each step chooses its own grid to show.
-                self.views.grid.clear();
+                self.ws.step = step;
             }
             ui.horizontal(|ui| {
                 ui.add_space(10.0);
@@ -25,7 +23,7 @@ impl FieldstoneApp {
             ui.add_space(4.0);
         }
         ui.separator();
-        if let Some(d) = &self.doc {
+        if let Some(d) = &self.ws.doc {
             ui.label(
                 RichText::new(format!(
                     "background: density contrasts relative to {} g/cm³",
@@ -46,7 +44,10 @@ impl FieldstoneApp {
 
     pub(super) fn status_bar(&mut self, ui: &mut egui::Ui) {
         ui.horizontal(|ui| {
-            match (self.hover, self.doc.as_ref().and_then(|d| d.project.epsg)) {
+            match (
+                self.ws.hover,
+                self.ws.doc.as_ref().and_then(|d| d.project.epsg),
+            ) {
                 (Some((p, v)), epsg) => {
                     ui.label(format!(
                         "E {:.1} m  N {:.1} m{}",
@@ -56,7 +57,7 @@ impl FieldstoneApp {
                     ));
                     if let Some(v) = v {
                         ui.separator();
-                        ui.label(format!("value {v:.4} {}", self.views.units));
+                        ui.label(format!("value {v:.4} {}", self.ws.units));
                     }
                 }
                 _ => {
@@ -64,7 +65,7 @@ impl FieldstoneApp {
                 }
             }
             ui.separator();
-            match &self.job {
+            match &self.ws.job {
                 Some(j) if j.running() => {
                     ui.spinner();
                     ui.label(format!(
@@ -77,7 +78,7 @@ impl FieldstoneApp {
                     ui.label("idle");
                 }
             }
-            if let Some(d) = &self.doc {
+            if let Some(d) = &self.ws.doc {
                 if d.dirty() {
                     ui.separator();
                     ui.label(
@@ -95,7 +96,7 @@ impl FieldstoneApp {
     pub(super) fn log_panel(&mut self, ui: &mut egui::Ui) {
         ui.horizontal(|ui| {
             ui.strong("Run log");
-            if let Some(j) = &self.job {
+            if let Some(j) = &self.ws.job {
                 if j.running() {
                     if let Some((a, b)) = j.progress {
                         let frac = a as f32 / b.max(1) as f32;
@@ -118,9 +119,10 @@ impl FieldstoneApp {
             }
         });
         let lines: Vec<&String> = self
+            .ws
             .log
             .iter()
-            .chain(self.job.iter().flat_map(|j| j.lines.iter()))
+            .chain(self.ws.job.iter().flat_map(|j| j.lines.iter()))
             .collect();
         egui::ScrollArea::vertical()
             .stick_to_bottom(true)

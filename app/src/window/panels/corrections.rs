@@ -1,0 +1,102 @@
+//! The Corrections step: the reduction settings of the gravity and
+//! magnetic surveys. Its views are the survey's map and profile with the
+//! reduced anomalies (see [`super::survey`]).
+
+use super::widgets::{num, opt_num, warn};
+use egui::{RichText, Ui};
+use fieldstone_core::project::file::ProjectFile;
+
+/// The Corrections step keeps no choices of its own.
+#[derive(Default)]
+pub struct CorrectionsPanel;
+
+impl CorrectionsPanel {
+    pub fn form(&mut self, ui: &mut Ui, p: &mut ProjectFile) {
+        let mut s = p.gravity_reduction.unwrap_or_default();
+        ui.label(RichText::new("Gravity").strong());
+        num(ui, "Reduction density", &mut s.density_g_cc, 0.01, "g/cm³");
+        if !(1.5..=3.5).contains(&s.density_g_cc) {
+            warn(
+                ui,
+                "expected about 1.8 to 3.3 g/cm³ (2.67 is the common choice)",
+            );
+        }
+        ui.checkbox(&mut s.atmospheric, "Atmospheric correction");
+        ui.checkbox(&mut s.curvature, "Curvature (Bullard B) correction");
+        p.background_density_g_cc = s.density_g_cc;
+        p.gravity_reduction = Some(s);
+        if let Some(g) = p.gravity.as_mut() {
+            ui.checkbox(&mut g.tide, "Earth tide (Longman)");
+            num(
+                ui,
+                "Gravimetric factor",
+                &mut g.gravimetric_factor,
+                0.01,
+                "",
+            );
+            let mut base = g.base_station.clone().unwrap_or_default();
+            ui.horizontal(|ui| {
+                ui.label("Base station id");
+                ui.text_edit_singleline(&mut base);
+            });
+            g.base_station = (!base.is_empty()).then_some(base);
+            opt_num(
+                ui,
+                "Base absolute gravity",
+                &mut g.base_value_mgal,
+                980_000.0,
+                "mGal",
+            );
+            if g.base_station.is_some() != g.base_value_mgal.is_some() {
+                warn(
+                    ui,
+                    "give both the base station id and its absolute gravity, or neither",
+                );
+            }
+            num(
+                ui,
+                "Flag loops drifting faster than",
+                &mut g.max_drift_mgal_per_h,
+                0.005,
+                "mGal/h",
+            );
+            opt_num(
+                ui,
+                "Terrain correction to",
+                &mut g.terrain_outer_m,
+                2000.0,
+                "m",
+            );
+            num(
+                ui,
+                "Uncertainty floor",
+                &mut g.uncertainty_floor_mgal,
+                0.001,
+                "mGal",
+            );
+            if g.uncertainty_floor_mgal <= 0.0 {
+                warn(ui, "the uncertainty must be positive");
+            }
+        }
+        if let Some(m) = p.magnetic.as_mut() {
+            ui.separator();
+            ui.label(RichText::new("Magnetics").strong());
+            ui.horizontal(|ui| {
+                ui.label("Survey date");
+                ui.text_edit_singleline(&mut m.date);
+            });
+            if fieldstone_core::geodesy::igrf::decimal_year_of_date(&m.date).is_err() {
+                warn(ui, "the date is YYYY-MM-DD");
+            }
+            num(ui, "Thin readings to", &mut m.thin_to_m, 1.0, "m");
+            num(
+                ui,
+                "Uncertainty floor",
+                &mut m.uncertainty_floor_nt,
+                0.1,
+                "nT",
+            );
+            num(ui, "plus", &mut m.uncertainty_percent, 0.1, "%");
+        }
+    }
+}
