@@ -1,6 +1,9 @@
 //! Shared helpers for Fieldstone's reference tests: an independent numerical
 //! cubature of the prism fields, written without any code from `core`, so the
-//! closed forms there can be checked against something outside them.
+//! closed forms there can be checked against something outside them; and
+//! the block case several inversion tests share ([`block`]).
+
+pub mod block;
 
 /// Eight-point Gauss–Legendre abscissae (positive half) and weights on
 /// [−1, 1], from Abramowitz & Stegun (1964), Table 25.4. The test

@@ -1,19 +1,17 @@
 //! Model appraisal: the depth-of-investigation index (Oldenburg & Li 1999)
 //! and the "is this feature required?" rerun. Each test states its setup.
 
-use fieldstone_core::constraint::build::{build, Assignments, ConstraintArrays, Defaults, Layer};
-use fieldstone_core::constraint::region::{Inputs, Region};
+use fieldstone_core::constraint::build::{build, ConstraintArrays, Defaults, Layer};
+use fieldstone_core::constraint::region::Inputs;
 use fieldstone_core::invert::appraise::{depth_of_investigation, doi_profile, feature_test, Hold};
 use fieldstone_core::invert::solver::{invert, Problem, RunResult};
 use fieldstone_core::invert::{InversionSettings, Weighting};
 use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
 use fieldstone_core::mesh::TensorMesh;
-use fieldstone_core::operator::dense::{DenseOperator, Survey};
 use fieldstone_core::operator::Operator;
 use fieldstone_core::progress::Silent;
-
-const SIGMA: f64 = 0.002; // mGal
+use fieldstone_tests::block::{bounded, BlockCase, Noise, SIGMA};
 
 fn constraints(mesh: &TensorMesh, layers: &[Layer]) -> ConstraintArrays {
     let act = active_cells(mesh, None, false, false).unwrap();
@@ -135,79 +133,11 @@ fn the_index_matches_the_closed_form_of_a_diagonal_problem() {
     );
 }
 
-/// A 16 × 16 × 8 mesh of 25 m cells with 256 stations 1 m above it and a
-/// 0.3 g/cm³ block at 50–100 m depth.
-struct Case {
-    mesh: TensorMesh,
-    op: DenseOperator,
-    active: Vec<usize>,
-    data: Vec<f64>,
-}
-
-impl Case {
-    /// The problem of this case with constraint arrays `k`.
-    fn problem<'a>(&'a self, k: &'a ConstraintArrays, unc: &'a [f64]) -> Problem<'a> {
-        Problem {
-            mesh: &self.mesh,
-            constraints: k,
-            active: &self.active,
-            data: &self.data,
-            uncertainty: unc,
-            reference_elevation_m: 1.0,
-        }
-    }
-}
-
-fn case() -> Case {
-    let mesh = MeshRecipe::uniform(25.0, 25.0, [0.0, 400.0], [0.0, 400.0], 0.0, 200.0)
-        .build()
-        .unwrap();
-    let active: Vec<usize> = (0..mesh.n_cells()).collect();
-    let stations: Vec<[f64; 3]> = (0..256)
-        .map(|s| {
-            [
-                12.5 + 25.0 * (s % 16) as f64,
-                12.5 + 25.0 * (s / 16) as f64,
-                1.0,
-            ]
-        })
-        .collect();
-    let op =
-        DenseOperator::build(&mesh, &active, &stations, Survey::Gravity, 1 << 30, &Silent).unwrap();
-    let [nx, ny, _] = mesh.shape();
-    let truth: Vec<f64> = (0..mesh.n_cells())
-        .map(|c| {
-            let (i, j, k) = (c % nx, (c / nx) % ny, c / (nx * ny));
-            if (6..10).contains(&i) && (6..10).contains(&j) && (4..6).contains(&k) {
-                0.3
-            } else {
-                0.0
-            }
-        })
-        .collect();
-    let mut data = vec![0.0; 256];
-    op.apply(&truth, &mut data);
-    let mut seed = 77u64;
-    for d in &mut data {
-        seed = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        // Uniform noise scaled to standard deviation SIGMA.
-        *d += SIGMA * 3.464 * (((seed >> 11) as f64 / (1u64 << 53) as f64) - 0.5);
-    }
-    Case {
-        mesh,
-        op,
-        active,
-        data,
-    }
-}
-
 /// The block case without constraints (α_s = 1e-3) and its first run,
 /// handed to `f`.
-fn with_base_run(f: impl FnOnce(&Case, &Problem, &InversionSettings, &RunResult)) {
-    let c = case();
-    let k = constraints(&c.mesh, &[]);
+fn with_base_run(f: impl FnOnce(&BlockCase, &Problem, &InversionSettings, &RunResult)) {
+    let c = BlockCase::new(Noise::Uniform(77));
+    let k = c.constraints(&[]);
     let unc = vec![SIGMA; c.data.len()];
     let pb = c.problem(&k, &unc);
     let s = InversionSettings {
@@ -216,19 +146,6 @@ fn with_base_run(f: impl FnOnce(&Case, &Problem, &InversionSettings, &RunResult)
     };
     let base = invert(&c.op, &pb, &s, &Silent).unwrap();
     f(&c, &pb, &s, &base);
-}
-
-fn positive() -> Layer {
-    Layer {
-        name: "positive".into(),
-        enabled: true,
-        region: Region::Whole,
-        assign: Assignments {
-            lower: Some(0.0),
-            upper: Some(1.0),
-            ..Default::default()
-        },
-    }
 }
 
 /// Gravity data lose resolution with depth, so the index grows with depth:
@@ -273,8 +190,8 @@ fn the_index_grows_with_depth_for_gravity_data() {
 /// corner changes nothing the data care about: not required.
 #[test]
 fn a_feature_under_the_anomaly_is_required_and_one_far_away_is_not() {
-    let c = case();
-    let k = constraints(&c.mesh, &[positive()]);
+    let c = BlockCase::new(Noise::Uniform(77));
+    let k = c.constraints(&[bounded(0.0, Some(1.0))]);
     let unc = vec![SIGMA; c.data.len()];
     let pb = c.problem(&k, &unc);
     let s = InversionSettings::default();

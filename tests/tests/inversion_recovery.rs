@@ -9,123 +9,24 @@ use fieldstone_core::constraint::region::{Inputs, Region};
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::solver::{invert, InversionError, Problem, RunResult};
 use fieldstone_core::invert::InversionSettings;
-use fieldstone_core::mesh::recipe::MeshRecipe;
 use fieldstone_core::mesh::topo::active_cells;
-use fieldstone_core::mesh::TensorMesh;
-use fieldstone_core::operator::dense::{DenseOperator, Survey};
+use fieldstone_core::operator::dense::Survey;
 use fieldstone_core::operator::Operator;
 use fieldstone_core::progress::Silent;
+use fieldstone_tests::block::{bounded, BlockCase, Noise, SIGMA};
 
-const SIGMA: f64 = 0.002; // mGal
-
-struct Case {
-    mesh: TensorMesh,
-    op: DenseOperator,
-    active: Vec<usize>,
-    truth: Vec<f64>,
-    data: Vec<f64>,
-}
-
-fn case() -> Case {
-    let mesh = MeshRecipe::uniform(25.0, 25.0, [0.0, 400.0], [0.0, 400.0], 0.0, 200.0)
-        .build()
-        .unwrap();
-    let active: Vec<usize> = (0..mesh.n_cells()).collect();
-    let stations: Vec<[f64; 3]> = (0..256)
-        .map(|s| {
-            [
-                12.5 + 25.0 * (s % 16) as f64,
-                12.5 + 25.0 * (s / 16) as f64,
-                1.0,
-            ]
-        })
-        .collect();
-    let op =
-        DenseOperator::build(&mesh, &active, &stations, Survey::Gravity, 1 << 30, &Silent).unwrap();
-    // Block 0.3 g/cm³: columns 6–9 × 6–9, layers 4–5 (50–100 m deep).
-    let [nx, ny, _] = mesh.shape();
-    let truth: Vec<f64> = (0..mesh.n_cells())
-        .map(|c| {
-            let (i, j, k) = (c % nx, (c / nx) % ny, c / (nx * ny));
-            if (6..10).contains(&i) && (6..10).contains(&j) && (4..6).contains(&k) {
-                0.3
-            } else {
-                0.0
-            }
-        })
-        .collect();
-    let mut clean = vec![0.0; 256];
-    op.apply(&truth, &mut clean);
-    // Deterministic Gaussian noise (Box–Muller on an LCG).
-    let mut seed = 2024u64;
-    let mut uni = || {
-        seed = seed
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        ((seed >> 11) as f64 + 0.5) / (1u64 << 53) as f64
-    };
-    let data = clean
-        .iter()
-        .map(|d| {
-            d + SIGMA * (-2.0 * uni().ln()).sqrt() * (2.0 * std::f64::consts::PI * uni()).cos()
-        })
-        .collect();
-    Case {
-        mesh,
-        op,
-        active,
-        truth,
-        data,
-    }
-}
-
-fn constraints(c: &Case, layers: &[Layer]) -> ConstraintArrays {
-    let act = active_cells(&c.mesh, None, false, false).unwrap();
-    build(
-        &c.mesh,
-        &act,
-        layers,
-        Defaults::density(),
-        &Inputs::default(),
-    )
-    .unwrap()
-    .0
-}
-
-/// A layer bounding the whole model below by `lower` (and above by `upper`).
-fn positive(lower: f64, upper: Option<f64>) -> Layer {
-    Layer {
-        name: "positive".into(),
-        enabled: true,
-        region: Region::Whole,
-        assign: Assignments {
-            lower: Some(lower),
-            upper,
-            ..Default::default()
-        },
-    }
-}
-
-fn run(c: &Case, k: &ConstraintArrays, s: &InversionSettings) -> RunResult {
+fn run(c: &BlockCase, k: &ConstraintArrays, s: &InversionSettings) -> RunResult {
     run_with(&c.op, c, k, s)
 }
 
 fn run_with<O: Operator>(
     op: &O,
-    c: &Case,
+    c: &BlockCase,
     k: &ConstraintArrays,
     s: &InversionSettings,
 ) -> RunResult {
     let unc = vec![SIGMA; c.data.len()];
-    let pb = Problem {
-        mesh: &c.mesh,
-        constraints: k,
-        active: &c.active,
-        data: &c.data,
-        uncertainty: &unc,
-        reference_elevation_m: 1.0,
-    };
-    invert(op, &pb, s, &Silent).unwrap()
+    invert(op, &c.problem(k, &unc), s, &Silent).unwrap()
 }
 
 fn within_target(r: &RunResult) -> bool {
@@ -134,8 +35,8 @@ fn within_target(r: &RunResult) -> bool {
 
 #[test]
 fn a_block_is_recovered_where_it_is_at_the_target_misfit() {
-    let c = case();
-    let k = constraints(&c, &[]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[]);
     let r = run(&c, &k, &InversionSettings::default());
     assert!(within_target(&r), "{:?}", r.summary);
     // Centroid of the positive anomaly within one cell laterally of the block centre (200, 200).
@@ -167,8 +68,8 @@ fn a_block_is_recovered_where_it_is_at_the_target_misfit() {
 
 #[test]
 fn bounds_hold_for_every_cell() {
-    let c = case();
-    let k = constraints(&c, &[positive(0.0, Some(0.25))]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[bounded(0.0, Some(0.25))]);
     let r = run(&c, &k, &InversionSettings::default());
     assert!(
         r.model.iter().all(|v| (0.0..=0.25).contains(v)),
@@ -182,7 +83,7 @@ fn bounds_hold_for_every_cell() {
 
 #[test]
 fn a_trusted_reference_is_honoured_and_a_guess_is_not() {
-    let c = case();
+    let c = BlockCase::new(Noise::Gaussian(2024));
     // The top two layers referenced to 0.1 (a wrong guess; the truth is 0).
     let region = Region::Box {
         x: [0.0, 400.0],
@@ -207,13 +108,13 @@ fn a_trusted_reference_is_honoured_and_a_guess_is_not() {
     let top: Vec<usize> = (0..c.mesh.n_cells())
         .filter(|&cell| cell / (nx * ny) >= nz - 2)
         .collect();
-    let strong = run(&c, &constraints(&c, &[layer(1e6)]), &s);
+    let strong = run(&c, &c.constraints(&[layer(1e6)]), &s);
     let worst = top
         .iter()
         .map(|&cell| (strong.model[cell] - 0.1).abs() / 0.1)
         .fold(0.0, f64::max);
     assert!(worst <= 0.05, "trusted reference departed by {worst}");
-    let weak = run(&c, &constraints(&c, &[layer(1e-3)]), &s);
+    let weak = run(&c, &c.constraints(&[layer(1e-3)]), &s);
     let mean = top.iter().map(|&cell| weak.model[cell]).sum::<f64>() / top.len() as f64;
     assert!(
         (mean - 0.1).abs() > 0.05,
@@ -223,7 +124,7 @@ fn a_trusted_reference_is_honoured_and_a_guess_is_not() {
 
 #[test]
 fn a_sharp_contact_allows_a_larger_vertical_jump() {
-    let c = case();
+    let c = BlockCase::new(Noise::Gaussian(2024));
     let mut base = Grid2::new_empty(-100.0, -100.0, 50.0, 50.0, 14, 14).unwrap();
     base.values.iter_mut().for_each(|v| *v = -50.0);
     let mut inputs = Inputs::default();
@@ -246,7 +147,7 @@ fn a_sharp_contact_allows_a_larger_vertical_jump() {
     let k_sharp = build(&c.mesh, &act, &[sharp], Defaults::density(), &inputs)
         .unwrap()
         .0;
-    let k_smooth = constraints(&c, &[]);
+    let k_smooth = c.constraints(&[]);
     let s = InversionSettings::default();
     let (a, b) = (run(&c, &k_sharp, &s), run(&c, &k_smooth, &s));
     assert!(within_target(&a) && within_target(&b));
@@ -268,8 +169,8 @@ fn a_sharp_contact_allows_a_larger_vertical_jump() {
 
 #[test]
 fn focusing_makes_a_more_compact_model_at_the_same_misfit() {
-    let c = case();
-    let k = constraints(&c, &[positive(0.0, Some(0.5))]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[bounded(0.0, Some(0.5))]);
     let l2 = run(&c, &k, &InversionSettings::default());
     let focused = run(
         &c,
@@ -301,7 +202,7 @@ fn focusing_makes_a_more_compact_model_at_the_same_misfit() {
 
 #[test]
 fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
-    let c = case();
+    let c = BlockCase::new(Noise::Gaussian(2024));
     let held = Layer {
         name: "held".into(),
         enabled: true,
@@ -316,7 +217,7 @@ fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
             ..Default::default()
         },
     };
-    let k = constraints(&c, &[held]);
+    let k = c.constraints(&[held]);
     let r = run(&c, &k, &InversionSettings::default());
     for (cell, v) in r.model.iter().enumerate() {
         if k.fixed[cell] {
@@ -336,18 +237,15 @@ fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
         invert(&c.op, &pb, &InversionSettings::default(), &Silent),
         Err(InversionError::Uncertainty { index: 0, .. })
     ));
-    let all = constraints(
-        &c,
-        &[Layer {
-            name: "all".into(),
-            enabled: true,
-            region: Region::Whole,
-            assign: Assignments {
-                fixed: true,
-                ..Default::default()
-            },
-        }],
-    );
+    let all = c.constraints(&[Layer {
+        name: "all".into(),
+        enabled: true,
+        region: Region::Whole,
+        assign: Assignments {
+            fixed: true,
+            ..Default::default()
+        },
+    }]);
     let unc = vec![SIGMA; c.data.len()];
     let pb = Problem {
         mesh: &c.mesh,
@@ -380,8 +278,8 @@ fn fixed_cells_keep_their_values_exactly_and_bad_settings_are_refused() {
 #[test]
 fn dense_and_fft_runs_give_the_same_model() {
     use fieldstone_core::operator::fft::FftOperator;
-    let c = case();
-    let k = constraints(&c, &[positive(0.0, None)]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[bounded(0.0, None)]);
     let dense = run(&c, &k, &InversionSettings::default());
     let fft =
         FftOperator::build(&c.mesh, &c.active, 1.0, &vec![true; 256], Survey::Gravity).unwrap();
@@ -407,8 +305,8 @@ fn dense_and_fft_runs_give_the_same_model() {
 #[test]
 fn results_do_not_depend_on_the_thread_count() {
     use fieldstone_core::operator::fft::FftOperator;
-    let c = case();
-    let k = constraints(&c, &[positive(0.0, Some(0.5))]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[bounded(0.0, Some(0.5))]);
     let s = InversionSettings {
         norms: [0.0, 2.0, 2.0, 2.0],
         max_irls_iterations: 3,
@@ -434,8 +332,8 @@ fn results_do_not_depend_on_the_thread_count() {
 /// noise does not allow stops saying so, with no NaN anywhere in its output.
 #[test]
 fn numerical_faults_are_refused_or_reported_and_never_give_nan() {
-    let c = case();
-    let k = constraints(&c, &[]);
+    let c = BlockCase::new(Noise::Gaussian(2024));
+    let k = c.constraints(&[]);
     let try_with = |data: &[f64], unc: &[f64], s: &InversionSettings| {
         let pb = Problem {
             mesh: &c.mesh,
@@ -488,7 +386,7 @@ fn numerical_faults_are_refused_or_reported_and_never_give_nan() {
     let e = build(
         &c.mesh,
         &act,
-        &[positive(1.0, Some(0.5))],
+        &[bounded(1.0, Some(0.5))],
         Defaults::density(),
         &Inputs::default(),
     )
