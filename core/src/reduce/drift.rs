@@ -1,12 +1,14 @@
-//! Meter drift from base-station repeats.
+//! Meter drift from base-station readings.
 //!
-//! Readings are taken in time order. Every reading at the base station closes
-//! one loop and opens the next; within a loop the drift is taken as linear in
-//! time between the two base readings (common practice for modern relative
-//! meters), and every reading is tied to the known absolute value of the
-//! base:
-//! g_obs = base value + (r − r_b₀) − rate·(t − t_b₀),
-//! with r the (tide-corrected) reading and rate = (r_b₁ − r_b₀)/(t_b₁ − t_b₀).
+//! Readings are taken in time order. Every reading at a base station (of
+//! known or adjusted absolute gravity) closes one loop and opens the next;
+//! within a loop the drift is taken as linear in time between the two base
+//! readings (common practice for modern relative meters), and every reading
+//! is tied to the absolute value of the opening base:
+//! g_obs = g_b₀ + (r − r_b₀) − rate·(t − t_b₀),
+//! with r the (tide-corrected) reading and rate the loop's misclosure after
+//! the known difference of its bases, per unit time:
+//! rate = ((r_b₁ − r_b₀) − (g_b₁ − g_b₀)) / (t_b₁ − t_b₀).
 
 use serde::{Deserialize, Serialize};
 use thiserror::Error;
@@ -25,6 +27,9 @@ pub struct DriftSettings {
 /// One base-to-base loop.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct DriftLoop {
+    /// The opening and closing base.
+    pub opening: String,
+    pub closing: String,
     /// Row of the opening and closing base reading.
     pub start_row: usize,
     pub end_row: usize,
@@ -46,6 +51,8 @@ pub enum DriftError {
     Outside { row: usize },
     #[error("row {row}: reading or time is missing")]
     Missing { row: usize },
+    #[error("no base station is read; every loop opens and closes at a base of known (or adjusted) value")]
+    NoBases,
 }
 
 /// The result of a drift reduction.
@@ -58,12 +65,38 @@ pub struct DriftReduction {
     pub loops: Vec<DriftLoop>,
 }
 
-/// Observed gravity and the drift correction at every row, and the loops.
+/// Observed gravity and the drift correction at every row, and the loops,
+/// for readings tied to one base of known value.
 pub fn reduce_drift(
     times_s: &[f64],
     stations: &[String],
     readings_mgal: &[f64],
     s: &DriftSettings,
+) -> Result<DriftReduction, DriftError> {
+    let bases = std::collections::BTreeMap::from([(s.base_station.clone(), s.base_value_mgal)]);
+    let n_base = stations.iter().filter(|x| **x == s.base_station).count();
+    if n_base < 2 {
+        return Err(DriftError::TooFewBases(s.base_station.clone()));
+    }
+    reduce_loops(
+        times_s,
+        stations,
+        readings_mgal,
+        &bases,
+        s.max_rate_mgal_per_h,
+    )
+}
+
+/// Observed gravity and the drift correction at every row of one file (in
+/// time order), and its loops: every reading at a station of `bases`
+/// (station → absolute gravity, mGal) closes one loop and opens the next.
+/// Loops drifting faster than `max_rate_mgal_per_h` are flagged.
+pub fn reduce_loops(
+    times_s: &[f64],
+    stations: &[String],
+    readings_mgal: &[f64],
+    bases: &std::collections::BTreeMap<String, f64>,
+    max_rate_mgal_per_h: f64,
 ) -> Result<DriftReduction, DriftError> {
     let n = times_s.len();
     for r in 0..n {
@@ -78,38 +111,44 @@ pub fn reduce_drift(
             });
         }
     }
-    let bases: Vec<usize> = (0..n).filter(|&r| stations[r] == s.base_station).collect();
-    if bases.len() < 2 {
-        return Err(DriftError::TooFewBases(s.base_station.clone()));
+    let at: Vec<usize> = (0..n)
+        .filter(|&r| bases.contains_key(&stations[r]))
+        .collect();
+    if at.is_empty() {
+        return Err(DriftError::NoBases);
     }
-    if let Some(row) = (0..bases[0])
+    if let Some(row) = (0..at[0])
         .next()
-        .or_else(|| (bases[bases.len() - 1] + 1..n).next())
+        .or_else(|| (at[at.len() - 1] + 1..n).next())
     {
         return Err(DriftError::Outside { row });
     }
     let mut g = vec![0.0; n];
     let mut corr = vec![0.0; n];
     let mut loops = Vec::new();
-    for w in bases.windows(2) {
+    if at.len() == 1 {
+        // A single reading, at the base itself.
+        g[at[0]] = bases[&stations[at[0]]];
+    }
+    for w in at.windows(2) {
         let (b0, b1) = (w[0], w[1]);
+        let (g0, g1) = (bases[&stations[b0]], bases[&stations[b1]]);
         let dt_h = (times_s[b1] - times_s[b0]) / 3600.0;
-        let rate = if dt_h > 0.0 {
-            (readings_mgal[b1] - readings_mgal[b0]) / dt_h
-        } else {
-            0.0
-        };
+        let misclosure = (readings_mgal[b1] - readings_mgal[b0]) - (g1 - g0);
+        let rate = if dt_h > 0.0 { misclosure / dt_h } else { 0.0 };
         for r in b0..=b1 {
             let c = -rate * (times_s[r] - times_s[b0]) / 3600.0;
             corr[r] = c;
-            g[r] = s.base_value_mgal + (readings_mgal[r] - readings_mgal[b0]) + c;
+            g[r] = g0 + (readings_mgal[r] - readings_mgal[b0]) + c;
         }
         loops.push(DriftLoop {
+            opening: stations[b0].clone(),
+            closing: stations[b1].clone(),
             start_row: b0,
             end_row: b1,
             duration_h: dt_h,
             rate_mgal_per_h: rate,
-            flagged: rate.abs() > s.max_rate_mgal_per_h,
+            flagged: rate.abs() > max_rate_mgal_per_h,
         });
     }
     Ok(DriftReduction {
@@ -201,6 +240,46 @@ mod tests {
                 &s
             ),
             Err(DriftError::Outside { row: 0 })
+        ));
+    }
+
+    #[test]
+    fn a_loop_between_two_known_bases_takes_the_misclosure_after_their_difference() {
+        // Base A at 979 800.000, base B at 979 795.500 mGal; drift +0.03 mGal/h;
+        // the meter reads g − 977 000 + drift.
+        let bases = std::collections::BTreeMap::from([
+            ("A".to_string(), 979_800.0),
+            ("B".to_string(), 979_795.5),
+        ]);
+        let truth = [
+            ("A", 979_800.0),
+            ("S1", 979_801.25),
+            ("S2", 979_797.0),
+            ("B", 979_795.5),
+        ];
+        let times = [0.0, 2400.0, 4800.0, 10_800.0];
+        let readings: Vec<f64> = truth
+            .iter()
+            .zip(times)
+            .map(|((_, g), t)| g - 977_000.0 + 0.03 * t / 3600.0)
+            .collect();
+        let ids: Vec<String> = truth.iter().map(|(s, _)| s.to_string()).collect();
+        let r = reduce_loops(&times, &ids, &readings, &bases, 0.05).unwrap();
+        for (k, (_, want)) in truth.iter().enumerate() {
+            assert!((r.gravity_mgal[k] - want).abs() < 1e-9, "row {k}");
+        }
+        assert_eq!(r.loops.len(), 1);
+        assert_eq!(
+            (r.loops[0].opening.as_str(), r.loops[0].closing.as_str()),
+            ("A", "B")
+        );
+        assert!((r.loops[0].rate_mgal_per_h - 0.03).abs() < 1e-9);
+        // A reading after the last base is outside every loop.
+        let mut ids2 = ids.clone();
+        ids2[3] = "S3".into();
+        assert!(matches!(
+            reduce_loops(&times, &ids2, &readings, &bases, 0.05),
+            Err(DriftError::Outside { row: 1 })
         ));
     }
 }
