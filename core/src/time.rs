@@ -29,6 +29,47 @@ pub enum TimeFormat {
     Clock,
     DecimalHours,
     SecondsOfDay,
+    /// Time elapsed since an origin the file does not give (since the first
+    /// reading, say), in seconds, minutes or hours: enough for drift, not
+    /// for the tide.
+    ElapsedSeconds,
+    ElapsedMinutes,
+    ElapsedHours,
+}
+
+impl TimeFormat {
+    /// Seconds per unit of an elapsed-time format.
+    pub fn elapsed_unit_s(self) -> Option<f64> {
+        match self {
+            TimeFormat::ElapsedSeconds => Some(1.0),
+            TimeFormat::ElapsedMinutes => Some(60.0),
+            TimeFormat::ElapsedHours => Some(3600.0),
+            _ => None,
+        }
+    }
+
+    /// The format named on the command line (`--unit HEADER=UNIT` of a time
+    /// column): s, min or h of elapsed time; clock, hours_of_day,
+    /// seconds_of_day.
+    pub fn parse(text: &str) -> Option<TimeFormat> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "s" | "sec" | "seconds" => Some(TimeFormat::ElapsedSeconds),
+            "min" | "minutes" => Some(TimeFormat::ElapsedMinutes),
+            "h" | "hours" => Some(TimeFormat::ElapsedHours),
+            "clock" => Some(TimeFormat::Clock),
+            "hours_of_day" => Some(TimeFormat::DecimalHours),
+            "seconds_of_day" => Some(TimeFormat::SecondsOfDay),
+            "auto" => Some(TimeFormat::Auto),
+            _ => None,
+        }
+    }
+}
+
+/// True when a time field is written as a date and time together
+/// (`2026-03-14T09:30`, `2026-03-14 09:30:00`).
+pub fn looks_like_datetime(text: &str) -> bool {
+    let t = text.trim();
+    t.len() >= 8 && (t.contains('T') || t.get(1..).is_some_and(|rest| rest.contains('-')))
 }
 
 /// Days from 1970-01-01 to the given civil date (proleptic Gregorian),

@@ -85,6 +85,37 @@ impl Role {
         }
     }
 
+    /// The short key a role is named by on the command line
+    /// (`--column KEY=HEADER`) and by `fieldstone inspect --roles`.
+    pub fn key(&self) -> &'static str {
+        match self {
+            Role::Easting => "x",
+            Role::Northing => "y",
+            Role::Longitude => "lon",
+            Role::Latitude => "lat",
+            Role::Elevation => "height",
+            Role::HeightAboveGround => "clearance",
+            Role::Line => "line",
+            Role::Station => "station",
+            Role::Date => "date",
+            Role::Time => "time",
+            Role::DateTime => "datetime",
+            Role::Gravity => "gravity",
+            Role::Magnetic => "magnetic",
+            Role::BaseGravity => "base_gravity",
+            Role::BaseMagnetic => "base_magnetic",
+            Role::InstrumentHeight => "instrument_height",
+            Role::PassThrough => "keep",
+            Role::Ignore => "ignore",
+        }
+    }
+
+    /// The role of a key (see [`Role::key`]); None for an unknown key.
+    pub fn from_key(key: &str) -> Option<Role> {
+        let k = key.trim().to_ascii_lowercase();
+        Role::ALL.iter().copied().find(|r| r.key() == k)
+    }
+
     /// True for roles whose values are numbers.
     pub fn is_numeric(&self) -> bool {
         !matches!(
@@ -151,6 +182,22 @@ impl Unit {
             Unit::MicrometrePerSecond2 => "µm/s² (g.u.)",
             Unit::Nanotesla => "nT",
             Unit::Degree => "degrees",
+        }
+    }
+
+    /// The unit named by `text` on the command line (`--unit HEADER=UNIT`):
+    /// m, ft, usft, mGal, gu (µm/s²), nT, deg.
+    pub fn parse(text: &str) -> Option<Unit> {
+        match text.trim().to_ascii_lowercase().as_str() {
+            "m" | "metre" | "metres" | "meter" | "meters" => Some(Unit::Metre),
+            "ft" | "foot" | "feet" => Some(Unit::Foot),
+            "usft" | "us_ft" | "us-ft" => Some(Unit::UsSurveyFoot),
+            "mgal" => Some(Unit::Mgal),
+            "gu" | "um/s2" | "µm/s2" | "µm/s²" => Some(Unit::MicrometrePerSecond2),
+            "nt" | "gamma" => Some(Unit::Nanotesla),
+            "deg" | "degree" | "degrees" => Some(Unit::Degree),
+            "" | "none" => Some(Unit::None),
+            _ => None,
         }
     }
 
@@ -325,6 +372,13 @@ pub fn guess_role(name: &str, numeric: bool) -> Role {
         Role::DateTime
     } else if is(&["date", "utcdate", "surveydate", "day"]) {
         Role::Date
+    } else if time_format_hint(name).is_some()
+        && ["time", "t", "elapsed"]
+            .iter()
+            .any(|w| full.starts_with(w) && full.len() <= w.len() + 7)
+    {
+        // "time_minutes", "t[h]", "elapsed_s".
+        Role::Time
     } else if is(&[
         "time",
         "utc",
@@ -380,6 +434,27 @@ pub fn guess_role(name: &str, numeric: bool) -> Role {
         Role::Magnetic
     } else {
         Role::PassThrough
+    }
+}
+
+/// How a time column's header says its values are written: a unit of
+/// elapsed time (`time_minutes`, `t[h]`, `elapsed_s`), or nothing.
+pub fn time_format_hint(name: &str) -> Option<crate::time::TimeFormat> {
+    use crate::time::TimeFormat;
+    let lower = name.to_lowercase();
+    let tokens: Vec<&str> = lower
+        .split(|c: char| !c.is_alphanumeric())
+        .filter(|t| !t.is_empty())
+        .collect();
+    let has = |w: &[&str]| tokens.iter().any(|t| w.contains(t));
+    if has(&["min", "mins", "minute", "minutes"]) {
+        Some(TimeFormat::ElapsedMinutes)
+    } else if has(&["h", "hr", "hrs", "hour", "hours"]) {
+        Some(TimeFormat::ElapsedHours)
+    } else if has(&["s", "sec", "secs", "second", "seconds"]) && has(&["elapsed", "t", "time"]) {
+        Some(TimeFormat::ElapsedSeconds)
+    } else {
+        None
     }
 }
 
@@ -440,6 +515,37 @@ mod tests {
         assert_eq!(guess_column("TMI (nT)", true).unit, Unit::Nanotesla);
         // A feet hint on a magnetic column does not fit and is ignored.
         assert_eq!(guess_column("mag_ft", true).unit, Unit::Nanotesla);
+    }
+
+    #[test]
+    fn keys_name_every_role_once_and_parse_back() {
+        let mut seen = std::collections::BTreeSet::new();
+        for r in Role::ALL {
+            assert!(seen.insert(r.key()), "{}", r.key());
+            assert_eq!(Role::from_key(r.key()), Some(r));
+        }
+        assert_eq!(Role::from_key("LAT"), Some(Role::Latitude));
+        assert_eq!(Role::from_key("reading"), None);
+        assert_eq!(Unit::parse("mGal"), Some(Unit::Mgal));
+        assert_eq!(Unit::parse("ft"), Some(Unit::Foot));
+        assert_eq!(Unit::parse("furlong"), None);
+    }
+
+    #[test]
+    fn time_headers_name_their_units() {
+        use crate::time::TimeFormat;
+        assert_eq!(
+            time_format_hint("time_minutes"),
+            Some(TimeFormat::ElapsedMinutes)
+        );
+        assert_eq!(time_format_hint("t[h]"), Some(TimeFormat::ElapsedHours));
+        assert_eq!(
+            time_format_hint("elapsed_s"),
+            Some(TimeFormat::ElapsedSeconds)
+        );
+        assert_eq!(time_format_hint("UTC_time"), None);
+        assert_eq!(guess_role("time_minutes", true), Role::Time);
+        assert_eq!(guess_role("t[h]", true), Role::Time);
     }
 
     #[test]

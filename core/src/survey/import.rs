@@ -31,6 +31,18 @@ pub struct ImportSpec {
     pub split: SplitRule,
 }
 
+/// What the times of a survey count from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum TimeOrigin {
+    /// Seconds since 1970-01-01 00:00 UTC: a date and a time of every reading.
+    #[default]
+    Epoch,
+    /// Seconds since midnight of a day the file does not give.
+    Midnight,
+    /// Seconds since an origin the file does not give (elapsed time).
+    Unknown,
+}
+
 /// A numeric channel in program units.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Channel {
@@ -55,9 +67,10 @@ pub struct Survey {
     pub lat: Option<Vec<f64>>,
     pub lon: Option<Vec<f64>>,
     pub elevation_m: Option<Vec<f64>>,
-    /// Seconds since 1970-01-01 UTC (or seconds of day when the file has times
-    /// but no dates).
+    /// Seconds since 1970-01-01 UTC, or seconds of day when the file has
+    /// times but no dates, or elapsed seconds: see `time_origin`.
     pub time_s: Option<Vec<f64>>,
+    pub time_origin: TimeOrigin,
     /// Station or fiducial identifiers (numbers or text).
     pub station: Option<ColumnData>,
     pub lines: Vec<SurveyLine>,
@@ -144,14 +157,112 @@ impl ImportSpec {
             has_header: Some(sn.has_header),
             dummy_value: text.dummy_value,
         };
+        // A time column whose header names a unit holds elapsed time.
+        let time_format = columns
+            .iter()
+            .find(|c| c.role == Role::Time)
+            .and_then(|c| super::columns::time_format_hint(&c.name))
+            .unwrap_or_default();
         Ok(ImportSpec {
             text,
             columns,
             epsg,
             date_order: DateOrder::default(),
-            time_format: TimeFormat::default(),
+            time_format,
             split: SplitRule::default(),
         })
+    }
+
+    /// The index of the column named `header` (exactly, else ignoring case).
+    fn column_named(&self, header: &str) -> Option<usize> {
+        self.columns
+            .iter()
+            .position(|c| c.name == header)
+            .or_else(|| {
+                self.columns
+                    .iter()
+                    .position(|c| c.name.eq_ignore_ascii_case(header.trim()))
+            })
+    }
+
+    /// The columns with their roles, for messages:
+    /// `'station_id' (station), 'reading' (gravity), ...`.
+    pub fn describe_columns(&self) -> String {
+        self.columns
+            .iter()
+            .map(|c| format!("'{}' ({})", c.name, c.role.key()))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
+
+    /// Gives `role` to the column named `header`; a column that had the role
+    /// before keeps its values but loses the role (it is carried through).
+    pub fn set_role(&mut self, role: Role, header: &str) -> Result<(), String> {
+        let i = self.column_named(header).ok_or_else(|| {
+            format!(
+                "there is no column '{header}' to give the role {}; the columns are: {}",
+                role.key(),
+                self.describe_columns()
+            )
+        })?;
+        if !matches!(role, Role::PassThrough | Role::Ignore) {
+            for c in self.columns.iter_mut() {
+                if c.role == role {
+                    c.role = Role::PassThrough;
+                    c.unit = Unit::None;
+                }
+            }
+        }
+        let c = &mut self.columns[i];
+        c.role = role;
+        let allowed = role.units();
+        c.unit = match super::columns::unit_hint(&c.name) {
+            Some(u) if allowed.contains(&u) => u,
+            _ => allowed[0],
+        };
+        if role == Role::Time {
+            if let Some(f) = super::columns::time_format_hint(&c.name) {
+                self.time_format = f;
+            }
+        }
+        Ok(())
+    }
+
+    /// Sets the unit of the column named `header`: a length, gravity,
+    /// magnetic or angle unit ([`Unit::parse`]), or for the time column a
+    /// time format ([`TimeFormat::parse`]).
+    pub fn set_unit(&mut self, header: &str, unit: &str) -> Result<(), String> {
+        let i = self.column_named(header).ok_or_else(|| {
+            format!(
+                "there is no column '{header}' to give the unit {unit}; the columns are: {}",
+                self.describe_columns()
+            )
+        })?;
+        let c = &mut self.columns[i];
+        if c.role == Role::Time {
+            self.time_format = TimeFormat::parse(unit).ok_or_else(|| {
+                format!("'{unit}' is not a time unit for column '{header}'; use s, min or h (elapsed time), clock, hours_of_day or seconds_of_day")
+            })?;
+            return Ok(());
+        }
+        let u = Unit::parse(unit).ok_or_else(|| {
+            format!("'{unit}' is not a unit; use one of m, ft, usft, mGal, gu, nT, deg")
+        })?;
+        if !c.role.units().contains(&u) {
+            return Err(format!(
+                "column '{header}' has the role {} and cannot be in {}; use one of: {}",
+                c.role.key(),
+                u.label(),
+                c.role
+                    .units()
+                    .iter()
+                    .map(|u| u.label())
+                    .collect::<Vec<_>>()
+                    .join(", ")
+            ));
+        }
+        c.unit = u;
+        Ok(())
     }
 }
 
@@ -468,7 +579,7 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         v
     });
     // Time.
-    let time_s = read_times(spec, &mut cols, &file_lines, &file, &mut warnings)?;
+    let (time_s, time_origin) = read_times(spec, &mut cols, &file_lines, &file, &mut warnings)?;
     let station = find(Role::Station).and_then(|i| cols[i].take());
     let lines = match find(Role::Line).and_then(|i| cols[i].take()) {
         Some(c) => lines_from_column(&c),
@@ -522,6 +633,7 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         lon,
         elevation_m,
         time_s,
+        time_origin,
         station,
         lines,
         channels,
@@ -594,7 +706,7 @@ fn read_times(
     lines: &[u64],
     file: &Path,
     warnings: &mut Vec<String>,
-) -> Result<Option<Vec<f64>>, ImportError> {
+) -> Result<(Option<Vec<f64>>, TimeOrigin), ImportError> {
     let find = |r: Role| spec.columns.iter().position(|c| c.role == r);
     let text_of = |cols: &mut [Option<ColumnData>], i: usize| match cols[i].take() {
         Some(ColumnData::Text(v)) => v,
@@ -616,12 +728,33 @@ fn read_times(
                 parse_datetime(t, spec.date_order).map_err(|m| bad(k, i, m))?
             });
         }
-        return Ok(Some(out));
+        return Ok((Some(out), TimeOrigin::Epoch));
     }
     let Some(it) = find(Role::Time) else {
-        return Ok(None);
+        return Ok((None, TimeOrigin::Epoch));
     };
     let dates = find(Role::Date).map(|i| (i, text_of(cols, i)));
+    if let Some(unit_s) = spec.time_format.elapsed_unit_s() {
+        // Elapsed time in seconds, minutes or hours.
+        let out = match cols[it].take() {
+            Some(ColumnData::Number(v)) => v.into_iter().map(|a| a * unit_s).collect(),
+            Some(ColumnData::Text(v)) => {
+                let mut out = Vec::with_capacity(v.len());
+                for (k, t) in v.iter().enumerate() {
+                    out.push(if t.is_empty() || crate::table::is_dummy_token(t) {
+                        f64::NAN
+                    } else {
+                        t.trim().parse::<f64>().map_err(|_| {
+                            bad(k, it, format!("'{t}' is not a number of elapsed time"))
+                        })? * unit_s
+                    });
+                }
+                out
+            }
+            None => Vec::new(),
+        };
+        return Ok((Some(out), TimeOrigin::Unknown));
+    }
     if let Some(ColumnData::Number(v)) = &cols[it] {
         // Seconds of day or decimal hours, read as numbers.
         let hours = match spec.time_format {
@@ -663,9 +796,26 @@ fn read_times(
         if dates.is_none() {
             warnings.push("times have no dates: they are seconds of day, and readings on different days cannot be told apart".into());
         }
-        return Ok(Some(out));
+        let origin = if dates.is_some() {
+            TimeOrigin::Epoch
+        } else {
+            TimeOrigin::Midnight
+        };
+        return Ok((Some(out), origin));
     }
     let times = text_of(cols, it);
+    // Date-times written in a column named for times.
+    if dates.is_none() && times.iter().any(|t| crate::time::looks_like_datetime(t)) {
+        let mut out = Vec::with_capacity(times.len());
+        for (k, t) in times.iter().enumerate() {
+            out.push(if t.is_empty() || crate::table::is_dummy_token(t) {
+                f64::NAN
+            } else {
+                parse_datetime(t, spec.date_order).map_err(|m| bad(k, it, m))?
+            });
+        }
+        return Ok((Some(out), TimeOrigin::Epoch));
+    }
     let all_below_24 = times
         .iter()
         .filter_map(|t| t.parse::<f64>().ok())
@@ -694,7 +844,12 @@ fn read_times(
         };
         out.push(day * 86_400.0 + sod);
     }
-    Ok(Some(out))
+    let origin = if dates.is_some() {
+        TimeOrigin::Epoch
+    } else {
+        TimeOrigin::Midnight
+    };
+    Ok((Some(out), origin))
 }
 
 #[cfg(test)]
@@ -708,6 +863,70 @@ mod tests {
         ));
         std::fs::write(&p, text).unwrap();
         p
+    }
+
+    #[test]
+    fn a_field_file_with_elapsed_minutes_imports_with_every_role_guessed() {
+        let p = write(
+            "elapsed",
+            "station_id,longitude,latitude,elevation,time_minutes,reading\n\
+             B1,-80.5,43.1,310.2,0,2851.234\n\
+             101,-80.49,43.1,312.0,12.5,2849.911\n\
+             B1,-80.5,43.1,310.2,95,2851.301\n",
+        );
+        let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
+        let roles: Vec<Role> = spec.columns.iter().map(|c| c.role).collect();
+        assert_eq!(
+            roles,
+            [
+                Role::Station,
+                Role::Longitude,
+                Role::Latitude,
+                Role::Elevation,
+                Role::Time,
+                Role::Gravity
+            ],
+            "{}",
+            spec.describe_columns()
+        );
+        assert_eq!(spec.time_format, TimeFormat::ElapsedMinutes);
+        let s = import_survey(&p, &spec).unwrap();
+        assert_eq!(s.time_origin, TimeOrigin::Unknown);
+        assert_eq!(s.time_s.as_deref(), Some(&[0.0, 750.0, 5700.0][..]));
+        assert_eq!(s.channel(Role::Gravity).unwrap().values[1], 2849.911);
+        let _ = std::fs::remove_file(p);
+    }
+
+    #[test]
+    fn roles_and_units_are_overridden_by_header() {
+        let p = write(
+            "override",
+            "E,N,H,t,obs,other\n500000,4770000,1000,2026-03-14T09:30:00Z,2851.2,1\n",
+        );
+        let mut spec =
+            ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32617)).unwrap();
+        spec.set_role(Role::Gravity, "obs").unwrap();
+        spec.set_role(Role::Elevation, "H").unwrap();
+        spec.set_role(Role::Time, "t").unwrap();
+        spec.set_unit("H", "ft").unwrap();
+        let e = spec.set_role(Role::Gravity, "nope").unwrap_err();
+        assert!(
+            e.contains("no column 'nope'") && e.contains("'obs' (gravity)"),
+            "{e}"
+        );
+        assert!(spec
+            .set_unit("H", "nT")
+            .unwrap_err()
+            .contains("cannot be in nT"));
+        assert!(spec.set_unit("H", "furlong").is_err());
+        let s = import_survey(&p, &spec).unwrap();
+        assert!((s.elevation_m.as_ref().unwrap()[0] - 304.8).abs() < 1e-9);
+        // An ISO date-time in a column named for times.
+        assert_eq!(s.time_origin, TimeOrigin::Epoch);
+        let want =
+            crate::time::parse_datetime("2026-03-14T09:30:00Z", DateOrder::YearMonthDay).unwrap();
+        assert_eq!(s.time_s.as_ref().unwrap()[0], want);
+        let _ = std::fs::remove_file(p);
     }
 
     #[test]

@@ -406,6 +406,7 @@ mod tests {
             lon: None,
             elevation_m: None,
             time_s: None,
+            time_origin: Default::default(),
             station: Some(crate::table::ColumnData::Text(station)),
             lines,
             channels: vec![Channel {
