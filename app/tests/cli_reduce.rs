@@ -113,7 +113,7 @@ fn reduce_gravity_writes_every_correction_and_matches_the_library() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     assert!(String::from_utf8_lossy(&o.stderr).contains("2.67 g/cm³"));
     let text = std::fs::read_to_string(d.join("out.csv")).unwrap();
-    assert!(text.starts_with("station,lat,lon,height_m,gravity_mgal,normal_gravity_mgal,free_air_correction_mgal,atmospheric_correction_mgal,bouguer_slab_mgal,curvature_correction_mgal,terrain_correction_mgal,free_air_anomaly_mgal,bouguer_anomaly_mgal,complete_bouguer_anomaly_mgal\n"), "{text}");
+    assert!(text.starts_with("station,lat,lon,height_m,gravity_mgal,source_file,normal_gravity_mgal,free_air_correction_mgal,atmospheric_correction_mgal,bouguer_slab_mgal,curvature_correction_mgal,terrain_correction_mgal,free_air_anomaly_mgal,bouguer_anomaly_mgal,complete_bouguer_anomaly_mgal\n"), "{text}");
     let cba = column(&text, "complete_bouguer_anomaly_mgal");
     let want = reduce_station(&GravitySettings::default(), 979_650.25, -33.6, 250.5, 0.0);
     assert_eq!(cba[1], want.complete_bouguer_anomaly);
@@ -232,4 +232,193 @@ fn reduce_magnetic_removes_diurnal_and_main_field() {
     );
     assert!(!o.status.success() && String::from_utf8_lossy(&o.stderr).contains("does not overlap"));
     assert!(!d.join("out3.csv").exists());
+}
+
+/// The field survey contract: several files with their own headers, elapsed
+/// minutes, readings in counter units through the meter's table, a base
+/// network with one unknown base. Every reading comes back to within
+/// 0.01 mGal RMS of the absolute gravity it was made from.
+#[test]
+fn a_survey_of_several_files_with_a_base_network_and_a_meter_table() {
+    use fieldstone_tests::field_survey::write_field_survey;
+    let d = scratch("network");
+    let s = write_field_survey(&d);
+    let out = d.join("reduced.csv");
+    let mut c = bin();
+    c.args(["reduce", "gravity"]);
+    for f in &s.days {
+        c.arg("--in").arg(f);
+    }
+    let o = c
+        .args(["--density", "2.67", "--no-tide"])
+        .arg("--bases")
+        .arg(&s.bases)
+        .arg("--meter-table")
+        .arg(&s.meter)
+        .arg("--out")
+        .arg(&out)
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&o.stderr);
+    assert!(o.status.success(), "{err}");
+    // Each loop with its file and bases; each base with its value and residual.
+    assert!(err.contains("day1.csv: loop 1: A → C"), "{err}");
+    assert!(err.contains("day2.csv: loop 2: B → B"), "{err}");
+    assert!(
+        err.contains("base C: 980401.7") && err.contains("(adjusted, ±"),
+        "{err}"
+    );
+    assert!(
+        err.contains("base A: 980412.3450 mGal (known, held)"),
+        "{err}"
+    );
+    let text = std::fs::read_to_string(&out).unwrap();
+    let header = text.lines().next().unwrap();
+    assert!(header.starts_with("station_id,longitude,latitude,elevation,time_minutes,reading,source_file,normal_gravity_mgal,"), "{header}");
+    for c in [
+        "observed_gravity_mgal",
+        "drift_correction_mgal",
+        "tide_correction_mgal",
+        "complete_bouguer_anomaly_mgal",
+    ] {
+        assert!(header.contains(c), "{c}");
+    }
+    let g = column(&text, "observed_gravity_mgal");
+    assert_eq!(g.len(), s.visits.len());
+    let mut rdr = csv::Reader::from_reader(text.as_bytes());
+    let mut sq = 0.0;
+    for (k, row) in rdr.records().enumerate() {
+        let row = row.unwrap();
+        // File order, then row order, with each row's file named.
+        assert_eq!(&row[0], s.visits[k].as_str());
+        let day = if k < 12 {
+            "day1.csv"
+        } else if k < 24 {
+            "day2.csv"
+        } else {
+            "day3.csv"
+        };
+        assert!(row[6].ends_with(day), "{}", &row[6]);
+        let e = g[k] - s.truth[&s.visits[k]];
+        assert!(e.abs() < 0.02, "{}: {e}", s.visits[k]);
+        sq += e * e;
+    }
+    let rms = (sq / g.len() as f64).sqrt();
+    eprintln!(
+        "field survey through the command: RMS {rms:.4} mGal over {} readings",
+        g.len()
+    );
+    assert!(rms < 0.01, "{rms}");
+}
+
+/// Field-survey mistakes are refused with the file and line, and nothing
+/// is written.
+#[test]
+fn network_and_meter_mistakes_are_refused_with_file_and_line() {
+    use fieldstone_tests::field_survey::write_field_survey;
+    let d = scratch("network-bad");
+    let s = write_field_survey(&d);
+    let run = |days: &[PathBuf], extra: &[&str], name: &str| {
+        let out = d.join(format!("{name}-reduced.csv"));
+        let mut c = bin();
+        c.args(["reduce", "gravity", "--density", "2.67", "--no-tide"]);
+        for f in days {
+            c.arg("--in").arg(f);
+        }
+        let o = c.args(extra).arg("--out").arg(&out).output().unwrap();
+        assert!(!o.status.success(), "{name} was accepted");
+        assert!(!out.exists(), "{name}: an output was written");
+        String::from_utf8_lossy(&o.stderr).to_string()
+    };
+    let bases = s.bases.display().to_string();
+    let meter = s.meter.display().to_string();
+    // A meter table with a row missing.
+    let table = std::fs::read_to_string(&s.meter).unwrap();
+    let gap: Vec<&str> = table
+        .lines()
+        .enumerate()
+        .filter(|(k, _)| *k != 30)
+        .map(|(_, l)| l)
+        .collect();
+    std::fs::write(d.join("gap.csv"), gap.join("\n")).unwrap();
+    let e = run(
+        &s.days,
+        &[
+            "--bases",
+            &bases,
+            "--meter-table",
+            d.join("gap.csv").to_str().unwrap(),
+        ],
+        "gap",
+    );
+    assert!(
+        e.contains("gap.csv") && e.contains("line 31") && e.contains("a row is missing"),
+        "{e}"
+    );
+    // A reading outside the table.
+    let day1 = std::fs::read_to_string(&s.days[0]).unwrap();
+    let mut lines: Vec<String> = day1.lines().map(String::from).collect();
+    let f: Vec<&str> = lines[3].split(',').collect();
+    lines[3] = format!("{},{},{},{},{},9999.99", f[0], f[1], f[2], f[3], f[4]);
+    std::fs::write(d.join("outside.csv"), lines.join("\n")).unwrap();
+    let days = [d.join("outside.csv"), s.days[1].clone(), s.days[2].clone()];
+    let e = run(
+        &days,
+        &["--bases", &bases, "--meter-table", &meter],
+        "outside",
+    );
+    assert!(
+        e.contains("outside.csv: line 4, column 'reading'")
+            && e.contains("outside the calibration table"),
+        "{e}"
+    );
+    // A day that ends away from any base: the last loop has no closing base.
+    let open: Vec<&str> = day1.lines().take(11).collect();
+    std::fs::write(d.join("open.csv"), open.join("\n")).unwrap();
+    let days = [d.join("open.csv"), s.days[1].clone(), s.days[2].clone()];
+    let e = run(&days, &["--bases", &bases, "--meter-table", &meter], "open");
+    assert!(
+        e.contains("open.csv: line 10") && e.contains("outside every base loop"),
+        "{e}"
+    );
+    // A base listed twice with different values.
+    std::fs::write(
+        d.join("twice.csv"),
+        "station,gravity_mgal\nA,980412.345\nB,980390.12\nA,980412.5\n",
+    )
+    .unwrap();
+    let e = run(
+        &s.days,
+        &[
+            "--bases",
+            d.join("twice.csv").to_str().unwrap(),
+            "--meter-table",
+            &meter,
+        ],
+        "twice",
+    );
+    assert!(
+        e.contains("twice.csv: line 4") && e.contains("listed twice"),
+        "{e}"
+    );
+    // Time going backwards.
+    let mut back: Vec<String> = day1.lines().map(String::from).collect();
+    let f: Vec<&str> = back[5].split(',').collect();
+    back[5] = format!("{},{},{},{},1.0,{}", f[0], f[1], f[2], f[3], f[5]);
+    std::fs::write(d.join("back.csv"), back.join("\n")).unwrap();
+    let days = [d.join("back.csv"), s.days[1].clone(), s.days[2].clone()];
+    let e = run(&days, &["--bases", &bases, "--meter-table", &meter], "back");
+    assert!(
+        e.contains("back.csv: line 6") && e.contains("time goes backwards"),
+        "{e}"
+    );
+    // No reading column the guesser knows: the message lists the columns
+    // and the option that fixes it.
+    std::fs::write(d.join("odd.csv"), day1.replacen("reading", "dial_value", 1)).unwrap();
+    let days = [d.join("odd.csv")];
+    let e = run(&days, &["--bases", &bases, "--meter-table", &meter], "odd");
+    assert!(
+        e.contains("'dial_value' (keep)") && e.contains("--column gravity=HEADER"),
+        "{e}"
+    );
 }

@@ -1,9 +1,11 @@
 //! Shared helpers for Fieldstone's reference tests: an independent numerical
 //! cubature of the prism fields, written without any code from `core`, so the
 //! closed forms there can be checked against something outside them; and
-//! the block case several inversion tests share ([`block`]).
+//! the block case several inversion tests share ([`block`]); an invented
+//! relative gravity survey of several files ([`field_survey`]).
 
 pub mod block;
+pub mod field_survey;
 
 /// Eight-point Gauss–Legendre abscissae (positive half) and weights on
 /// [−1, 1], from Abramowitz & Stegun (1964), Table 25.4. The test

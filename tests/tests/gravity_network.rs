@@ -5,16 +5,17 @@
 //! * The adjustment against numpy's `linalg.lstsq` on the same weighted
 //!   observation equations (fixture `fixtures/gravity_network_lstsq.json`,
 //!   script `fixtures/gravity_network_lstsq.py`, numpy version in the file).
-//! * A synthetic survey built from known absolute values through the inverse
-//!   of a calibration table in the makers' layout, a linear drift per day
-//!   and rounding to 0.01 counter units, which must come back to within
-//!   0.01 mGal RMS (the rounding alone is worth about 0.003 mGal).
+//! * A synthetic survey (`fieldstone_tests::field_survey`) built from known
+//!   absolute values through the inverse of a calibration table in the
+//!   makers' layout, a linear drift per day and rounding to 0.01 counter
+//!   units, which must come back to within 0.01 mGal RMS (the rounding
+//!   alone is worth about 0.003 mGal).
 
 use fieldstone_core::reduce::drift::reduce_loops;
 use fieldstone_core::reduce::meter::MeterTable;
 use fieldstone_core::reduce::network::{adjust_network, BaseObservation};
+use fieldstone_tests::field_survey::write_field_survey;
 use std::collections::BTreeMap;
-use std::path::Path;
 
 #[test]
 fn the_adjustment_matches_numpy_lstsq() {
@@ -85,92 +86,46 @@ fn the_adjustment_matches_numpy_lstsq() {
     }
 }
 
-/// A calibration table in the makers' layout: a row every 100 counter
-/// units from 0 to 7000, the interval factor varying smoothly about 1.02
-/// (printed to 1e-5 mGal per unit), the values accumulated from the
-/// unrounded factors and printed to 0.01 mGal. Invented.
-fn maker_style_table() -> String {
-    let mut text = String::from("Counter reading,Value in milligals,Factor for interval\n");
-    let mut value = 0.0;
-    for i in 0..=70 {
-        let factor = 1.02 + 0.004 * (i as f64 / 9.0).sin();
-        let printed = (factor * 1e5).round() / 1e5;
-        text.push_str(&format!("{},{:.2},{:.5}\n", i * 100, value, printed));
-        value += 100.0 * printed;
-    }
-    text
-}
-
 #[test]
 fn a_synthetic_network_comes_back_within_a_hundredth_of_a_milligal() {
-    let table = MeterTable::parse(&maker_style_table(), Path::new("meter.csv")).unwrap();
+    // The invented field survey (three days, counter readings rounded to
+    // 0.01 unit, linear drift a day, one base of unknown value), read back
+    // here with plain string splitting so only core's reduction is tested.
+    let dir = std::env::temp_dir().join(format!("fieldstone-network-{}", std::process::id()));
+    let survey = write_field_survey(&dir);
+    let table = MeterTable::read(&survey.meter).unwrap();
     let known = BTreeMap::from([
-        ("A".to_string(), 979_812.345),
-        ("B".to_string(), 979_790.12),
+        ("A".to_string(), survey.truth["A"]),
+        ("B".to_string(), survey.truth["B"]),
     ]);
-    let mut truth: BTreeMap<String, f64> = known.clone();
-    truth.insert("C".into(), 979_801.777);
-    for k in 0..24 {
-        truth.insert(
-            format!("S{k:02}"),
-            979_795.0 + 3.0 * (k as f64 * 0.7).sin() + 0.25 * k as f64,
-        );
-    }
-    // Three days: (offset of the meter's mGal scale, drift mGal/h, visits).
-    let days: [(f64, f64, Vec<&str>); 3] = [
-        (
-            -975_000.0,
-            0.028,
-            vec![
-                "A", "S00", "S01", "S02", "C", "S03", "S04", "A", "S05", "S06", "S07", "C",
-            ],
-        ),
-        (
-            -974_990.0,
-            -0.015,
-            vec![
-                "C", "S08", "S09", "S10", "B", "S11", "S12", "S13", "S14", "B", "S15", "C",
-            ],
-        ),
-        (
-            -975_004.5,
-            0.041,
-            vec![
-                "B", "S16", "S17", "S18", "A", "S19", "S20", "S21", "S22", "S23", "A",
-            ],
-        ),
-    ];
     let mut base_obs = Vec::new();
     let mut files = Vec::new();
-    for (f, (offset, drift, visits)) in days.iter().enumerate() {
-        let mut times = Vec::new();
-        let mut ids = Vec::new();
-        let mut mgal = Vec::new();
-        for (k, s) in visits.iter().enumerate() {
-            let t = 7.0 * 3600.0 + 1500.0 * k as f64 + 37.0 * (k * k % 7) as f64;
-            let scale_value = truth[*s] + offset + drift * (t - 7.0 * 3600.0) / 3600.0;
-            // The meter shows the counter, rounded to 0.01 unit.
-            let counter = (table.to_counter(scale_value).unwrap() * 100.0).round() / 100.0;
-            let reading = table.to_mgal(counter).unwrap();
-            times.push(t);
-            ids.push(s.to_string());
-            mgal.push(reading);
-            if !s.starts_with('S') {
+    for (f, path) in survey.days.iter().enumerate() {
+        let text = std::fs::read_to_string(path).unwrap();
+        let (mut times, mut ids, mut mgal) = (Vec::new(), Vec::new(), Vec::new());
+        for line in text.lines().skip(1) {
+            let v: Vec<&str> = line.split(',').collect();
+            let t = v[4].parse::<f64>().unwrap() * 60.0;
+            let reading = table.to_mgal(v[5].parse().unwrap()).unwrap();
+            if !v[0].starts_with('1') {
                 base_obs.push(BaseObservation {
                     file: f,
                     time_s: t,
-                    station: s.to_string(),
+                    station: v[0].to_string(),
                     reading_mgal: reading,
                     sd_mgal: 0.01,
                 });
             }
+            times.push(t);
+            ids.push(v[0].to_string());
+            mgal.push(reading);
         }
         files.push((times, ids, mgal));
     }
     let adj = adjust_network(&base_obs, &known).unwrap();
     let c = adj.bases.iter().find(|b| b.station == "C").unwrap();
     assert!(
-        !c.known && (c.value_mgal - truth["C"]).abs() < 0.005,
+        !c.known && (c.value_mgal - survey.truth["C"]).abs() < 0.005,
         "C {}",
         c.value_mgal
     );
@@ -180,7 +135,7 @@ fn a_synthetic_network_comes_back_within_a_hundredth_of_a_milligal() {
     for (times, ids, mgal) in &files {
         let r = reduce_loops(times, ids, mgal, &values, 0.05).unwrap();
         for (k, id) in ids.iter().enumerate() {
-            let d = r.gravity_mgal[k] - truth[id];
+            let d = r.gravity_mgal[k] - survey.truth[id];
             assert!(d.abs() < 0.02, "{id}: {d}");
             sq += d * d;
             n += 1;
@@ -189,6 +144,7 @@ fn a_synthetic_network_comes_back_within_a_hundredth_of_a_milligal() {
     let rms = (sq / n as f64).sqrt();
     eprintln!("synthetic network: {n} readings, RMS {rms:.4} mGal");
     assert!(rms < 0.01, "RMS {rms}");
+    let _ = std::fs::remove_dir_all(dir);
 }
 
 #[test]

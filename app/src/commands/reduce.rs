@@ -10,7 +10,8 @@ use clap::{Args, Subcommand, ValueEnum};
 use fieldstone_core::geodesy::normal_gravity::GravityEllipsoid;
 use fieldstone_core::reduce::gravity::{FreeAir, GravitySettings};
 use fieldstone_pipeline::reduction::{
-    reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, TerrainInputs,
+    reduce_gravity, reduce_magnetic, split_pair, BaseTie, GravityJob, MagneticJob, ReadOptions,
+    TerrainInputs,
 };
 use std::path::PathBuf;
 
@@ -36,10 +37,13 @@ pub enum FreeAirArg {
 
 #[derive(Debug, Args)]
 pub struct GravityArgs {
-    /// Station table (CSV): lat, lon (or x, y with --epsg), height_m,
-    /// gravity_mgal, and optional time, station, line.
-    #[arg(long = "in", value_name = "FILE")]
-    pub input: PathBuf,
+    /// A file of the survey (repeat for one file a day): any delimited table
+    /// whose header names its columns — coordinates (lat, lon, or easting,
+    /// northing with --epsg), height, the reading, and for relative readings
+    /// time and station. Roles and units are guessed from the header
+    /// (`fieldstone inspect FILE` shows the guesses).
+    #[arg(long = "in", value_name = "FILE", required = true)]
+    pub inputs: Vec<PathBuf>,
     /// Reduction (Bouguer) density, g/cm³; the background of every density model.
     #[arg(long)]
     pub density: f64,
@@ -96,6 +100,24 @@ pub struct GravityArgs {
     /// Date of the readings (YYYY-MM-DD) when the time column holds times of day.
     #[arg(long)]
     pub date: Option<String>,
+    /// Table of base stations (CSV): station id and absolute gravity in mGal
+    /// (blank where unknown). The readings are relative; the bases are
+    /// adjusted by least squares and every reading is tied to them in loops.
+    #[arg(long, value_name = "BASES.csv")]
+    pub bases: Option<PathBuf>,
+    /// The meter's calibration table (counter reading, value in mGal,
+    /// interval factor per row): the readings are in counter units.
+    #[arg(long = "meter-table", value_name = "TABLE.csv")]
+    pub meter_table: Option<PathBuf>,
+    /// Gives a role to the column of that header, overriding the guess
+    /// (repeatable); ROLE is one of the keys `fieldstone inspect --roles` lists.
+    #[arg(long = "column", value_name = "ROLE=HEADER")]
+    pub columns: Vec<String>,
+    /// The unit of the column of that header (repeatable): m, ft, usft,
+    /// mGal, gu, nT, deg; for the time column s, min or h of elapsed time,
+    /// clock, hours_of_day or seconds_of_day.
+    #[arg(long = "unit", value_name = "HEADER=UNIT")]
+    pub units: Vec<String>,
 }
 
 #[derive(Debug, Args)]
@@ -126,7 +148,7 @@ pub struct MagneticArgs {
 pub fn run(cmd: &ReduceCommand) -> CliResult {
     match cmd {
         ReduceCommand::Gravity(a) => {
-            reduce_gravity(&gravity_job(a), &Stderr::default())?;
+            reduce_gravity(&gravity_job(a)?, &Stderr::default())?;
         }
         ReduceCommand::Magnetic(a) => {
             reduce_magnetic(&magnetic_job(a), &Stderr::default())?;
@@ -136,10 +158,20 @@ pub fn run(cmd: &ReduceCommand) -> CliResult {
 }
 
 /// The reduction the gravity options ask for.
-pub fn gravity_job(a: &GravityArgs) -> GravityJob {
-    GravityJob {
-        input: a.input.clone(),
+pub fn gravity_job(a: &GravityArgs) -> Result<GravityJob, fieldstone_pipeline::Error> {
+    let pairs = |option: &str, v: &[String]| {
+        v.iter()
+            .map(|t| split_pair(option, t))
+            .collect::<Result<Vec<_>, _>>()
+    };
+    Ok(GravityJob {
+        inputs: a.inputs.clone(),
         out: a.out.clone(),
+        read: ReadOptions {
+            columns: pairs("--column", &a.columns)?,
+            units: pairs("--unit", &a.units)?,
+            epsg: a.epsg,
+        },
         settings: GravitySettings {
             density_g_cc: a.density,
             ellipsoid: match a.ellipsoid {
@@ -162,13 +194,14 @@ pub fn gravity_job(a: &GravityArgs) -> GravityJob {
             }),
             _ => None,
         },
-        epsg: a.epsg,
         base: BaseTie::of(a.base_value, a.base_station.as_deref()),
+        bases: a.bases.clone(),
+        meter_table: a.meter_table.clone(),
         max_drift_mgal_per_h: a.max_drift,
         tide: !a.no_tide,
         gravimetric_factor: a.gravimetric_factor,
         date: a.date.clone(),
-    }
+    })
 }
 
 /// The reduction the magnetic options ask for.

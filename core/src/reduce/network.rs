@@ -106,6 +106,84 @@ pub enum NetworkError {
     Singular,
 }
 
+/// The bases of a survey, read from a table with a column of station ids
+/// and a column of absolute gravity in mGal (blank where unknown; optional
+/// coordinates and other columns are allowed and not used here): station →
+/// value. A base listed twice must have the same value both times.
+pub fn read_bases(path: &std::path::Path) -> Result<BTreeMap<String, Option<f64>>, String> {
+    use crate::survey::columns::{guess_role, normalise, Role};
+    use crate::table::passthrough::read_passthrough;
+    let t = read_passthrough(path, &[]).map_err(|e| e.to_string())?;
+    let found = || t.names.join(", ");
+    let station = t
+        .names
+        .iter()
+        .position(|n| guess_role(n, false) == Role::Station)
+        .or_else(|| {
+            t.names
+                .iter()
+                .position(|n| ["base", "name", "basestation"].contains(&normalise(n).as_str()))
+        })
+        .ok_or_else(|| {
+            format!(
+                "{}: no column of base station ids (a header such as station or base; found: {})",
+                path.display(),
+                found()
+            )
+        })?;
+    let value = t
+        .names
+        .iter()
+        .enumerate()
+        .position(|(k, n)| {
+            let m = normalise(n);
+            k != station
+                && (guess_role(n, true) == Role::Gravity
+                    || m.contains("mgal")
+                    || m.contains("absolute")
+                    || m == "value")
+        })
+        .ok_or_else(|| {
+            format!(
+                "{}: no column of absolute gravity in mGal (a header such as gravity_mgal or absolute_mgal; found: {})",
+                path.display(),
+                found()
+            )
+        })?;
+    let values = t.numbers(value, false).map_err(|e| e.to_string())?;
+    let mut out: BTreeMap<String, Option<f64>> = BTreeMap::new();
+    let mut line_of: BTreeMap<String, u64> = BTreeMap::new();
+    for (r, value) in values.iter().enumerate() {
+        let id = t.text(r, station);
+        if id.is_empty() {
+            return Err(format!(
+                "{}: line {}: the base has no station id",
+                path.display(),
+                t.lines[r]
+            ));
+        }
+        let v = value.is_finite().then_some(*value);
+        if let Some(prev) = out.get(&id) {
+            if *prev != v {
+                let show =
+                    |x: &Option<f64>| x.map_or("no value".to_string(), |a| format!("{a} mGal"));
+                return Err(format!(
+                    "{}: line {}: base '{id}' is listed twice with different values ({} on line {}, {} here)",
+                    path.display(),
+                    t.lines[r],
+                    show(prev),
+                    line_of[&id],
+                    show(&v)
+                ));
+            }
+            continue;
+        }
+        out.insert(id.clone(), v);
+        line_of.insert(id, t.lines[r]);
+    }
+    Ok(out)
+}
+
 /// A small union-find over files and unknown stations.
 struct Groups(Vec<usize>);
 

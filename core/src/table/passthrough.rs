@@ -258,6 +258,19 @@ impl PassThroughTable {
     }
 }
 
+/// Appends numbers to a record in the shortest form that reads back to the
+/// same f64; NaN as an empty field.
+fn push_numbers(rec: &mut csv::ByteRecord, values: Vec<f64>) {
+    for v in values {
+        if v.is_finite() {
+            // + 0.0 turns −0 into 0.
+            rec.push_field(format!("{}", v + 0.0).as_bytes());
+        } else {
+            rec.push_field(b"");
+        }
+    }
+}
+
 /// Writes the table with extra numeric columns appended: `extra_names` in the
 /// header and `extra(i)` for row i. Numbers are written in the shortest form
 /// that reads back to the same f64; NaN is written as an empty field. The
@@ -280,15 +293,73 @@ pub fn write_with_columns(
         for f in row.iter() {
             rec.push_field(f);
         }
-        for v in extra(i) {
-            if v.is_finite() {
-                // + 0.0 turns −0 into 0.
-                rec.push_field(format!("{}", v + 0.0).as_bytes());
-            } else {
-                rec.push_field(b"");
-            }
-        }
+        push_numbers(&mut rec, extra(i));
         w.write_byte_record(&rec)?;
+    }
+    w.flush()?;
+    Ok(())
+}
+
+/// Writes several tables as one: the union of their columns (by name,
+/// ignoring case, in the order first seen; a field a table lacks is
+/// empty), then `source` — the name of each row's file, `sources[k]` for
+/// table k — then `extra_names` with `extra(k, i)` for row i of table k.
+/// Rows come in table order, then row order.
+pub fn write_tables_with_columns(
+    tables: &[&PassThroughTable],
+    source: &str,
+    sources: &[String],
+    extra_names: &[&str],
+    mut extra: impl FnMut(usize, usize) -> Vec<f64>,
+    out: &mut dyn Write,
+) -> Result<(), csv::Error> {
+    let mut names: Vec<Vec<u8>> = Vec::new();
+    let mut lower: Vec<String> = Vec::new();
+    let mut map: Vec<Vec<usize>> = Vec::new();
+    for t in tables {
+        let mut m = Vec::new();
+        for (raw, name) in t.header.iter().zip(&t.names) {
+            let l = name.to_lowercase();
+            let k = match lower.iter().position(|x| *x == l) {
+                Some(k) => k,
+                None => {
+                    lower.push(l);
+                    names.push(raw.to_vec());
+                    names.len() - 1
+                }
+            };
+            m.push(k);
+        }
+        map.push(m);
+    }
+    let mut w = csv::WriterBuilder::new().from_writer(out);
+    let mut h = csv::ByteRecord::new();
+    for n in &names {
+        h.push_field(n);
+    }
+    h.push_field(source.as_bytes());
+    for n in extra_names {
+        h.push_field(n.as_bytes());
+    }
+    w.write_byte_record(&h)?;
+    let mut rec = csv::ByteRecord::new();
+    let mut fields: Vec<&[u8]> = vec![b""; names.len()];
+    for (k, t) in tables.iter().enumerate() {
+        for (i, row) in t.rows.iter().enumerate() {
+            fields.iter_mut().for_each(|f| *f = b"");
+            for (j, f) in row.iter().enumerate() {
+                if let Some(&c) = map[k].get(j) {
+                    fields[c] = f;
+                }
+            }
+            rec.clear();
+            for f in &fields {
+                rec.push_field(f);
+            }
+            rec.push_field(sources[k].as_bytes());
+            push_numbers(&mut rec, extra(k, i));
+            w.write_byte_record(&rec)?;
+        }
     }
     w.flush()?;
     Ok(())
@@ -372,5 +443,25 @@ mod tests {
         let mut out = Vec::new();
         write_with_columns(&t, &["gz_mgal", "other"], |_| vec![0.5, f64::NAN], &mut out).unwrap();
         assert_eq!(out, b"x,y,z,note,gz_mgal,other\n1,2,3,H\xF6he,0.5,\n");
+    }
+
+    #[test]
+    fn several_tables_write_as_one_with_their_source() {
+        let a = parse(b"x,y,z\n1,2,3\n").unwrap();
+        let b = parse(b"X,z,note\n4,6,n\n5,7,m\n").unwrap();
+        let mut out = Vec::new();
+        write_tables_with_columns(
+            &[&a, &b],
+            "source_file",
+            &["a.csv".into(), "b.csv".into()],
+            &["gz_mgal"],
+            |k, i| vec![(10 * k + i) as f64],
+            &mut out,
+        )
+        .unwrap();
+        assert_eq!(
+            String::from_utf8(out).unwrap(),
+            "x,y,z,note,source_file,gz_mgal\n1,2,3,,a.csv,0\n4,,6,n,b.csv,10\n5,,7,m,b.csv,11\n"
+        );
     }
 }

@@ -8,7 +8,9 @@
 
 pub mod gravity;
 pub mod magnetic;
+pub mod survey_files;
 mod table;
 
 pub use gravity::{reduce_gravity, BaseTie, GravityJob, TerrainInputs};
 pub use magnetic::{reduce_magnetic, MagneticJob};
+pub use survey_files::{split_pair, ReadOptions, SOURCE_COLUMN};

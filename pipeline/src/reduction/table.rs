@@ -6,7 +6,9 @@ use fieldstone_core::io::atomic::{write_atomically, WriteError};
 use fieldstone_core::survey::time::{
     parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat,
 };
-use fieldstone_core::table::passthrough::{write_with_columns, PassThroughError, PassThroughTable};
+use fieldstone_core::table::passthrough::{
+    write_tables_with_columns, write_with_columns, PassThroughError, PassThroughTable,
+};
 use std::path::Path;
 
 /// A pass-through table error as a pipeline error.
@@ -14,12 +16,10 @@ pub(crate) fn table_error(e: PassThroughError) -> Error {
     Error::Input(e.to_string())
 }
 
-/// Positions of every row: latitude, longitude (degrees) and projected x, y
-/// when a projected reference is known.
+/// Positions of every row: latitude and longitude, degrees.
 pub(crate) struct Positions {
     pub lat: Vec<f64>,
     pub lon: Vec<f64>,
-    pub xy: Option<(Vec<f64>, Vec<f64>, Crs)>,
 }
 
 /// Latitude and longitude of every row: from x, y in the projected
@@ -46,11 +46,7 @@ pub(crate) fn positions(t: &PassThroughTable, epsg: Option<u32>) -> Result<Posit
                 lat.push(a);
                 lon.push(b);
             }
-            Ok(Positions {
-                lat,
-                lon,
-                xy: Some((x, y, crs)),
-            })
+            Ok(Positions { lat, lon })
         }
         None => {
             let hint = "give lat and lon in degrees, or x and y with a projected EPSG code";
@@ -74,7 +70,7 @@ pub(crate) fn positions(t: &PassThroughTable, epsg: Option<u32>) -> Result<Posit
                     .into());
                 }
             }
-            Ok(Positions { lat, lon, xy: None })
+            Ok(Positions { lat, lon })
         }
     }
 }
@@ -125,12 +121,10 @@ pub(crate) fn times(t: &PassThroughTable, col: usize, date: Option<&str>) -> Res
     Ok(out)
 }
 
-/// Writes the input's columns and `names` after them, atomically.
-pub(crate) fn write_output(
+/// Writes `out` atomically with a CSV writer `write`.
+fn write_csv_atomically<D: std::fmt::Display>(
     out: &Path,
-    t: &PassThroughTable,
-    names: &[&str],
-    rows: impl FnMut(usize) -> Vec<f64>,
+    write: impl FnOnce(&mut dyn std::io::Write) -> std::result::Result<(), D>,
 ) -> Result<()> {
     struct E(Error);
     impl From<WriteError> for E {
@@ -139,7 +133,7 @@ pub(crate) fn write_output(
         }
     }
     let r: std::result::Result<(), E> = write_atomically(out, |w| {
-        write_with_columns(t, names, rows, w).map_err(|e| {
+        write(w).map_err(|e| {
             E(Error::Internal(format!(
                 "could not write {}: {e}",
                 out.display()
@@ -147,6 +141,31 @@ pub(crate) fn write_output(
         })
     });
     r.map_err(|e| e.0)
+}
+
+/// Writes the input's columns and `names` after them, atomically.
+pub(crate) fn write_output(
+    out: &Path,
+    t: &PassThroughTable,
+    names: &[&str],
+    rows: impl FnMut(usize) -> Vec<f64>,
+) -> Result<()> {
+    write_csv_atomically(out, |w| write_with_columns(t, names, rows, w))
+}
+
+/// Writes several tables as one (their columns, `source` naming each row's
+/// file, then `names`), atomically.
+pub(crate) fn write_tables(
+    out: &Path,
+    tables: &[&PassThroughTable],
+    source: &str,
+    sources: &[String],
+    names: &[&str],
+    rows: impl FnMut(usize, usize) -> Vec<f64>,
+) -> Result<()> {
+    write_csv_atomically(out, |w| {
+        write_tables_with_columns(tables, source, sources, names, rows, w)
+    })
 }
 
 /// Refuses an output path that is one of the inputs, so no input is lost.

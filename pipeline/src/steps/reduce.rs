@@ -9,7 +9,7 @@ use crate::data::{write_points, Points};
 use crate::error::Result;
 use crate::paths::{at, data_path};
 use crate::reduction::{
-    reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, TerrainInputs,
+    reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, ReadOptions, TerrainInputs,
 };
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
@@ -76,7 +76,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
         let out = data_path(dir, "gravity_reduced.csv");
         reduce_gravity(
             &GravityJob {
-                input: at(dir, &g.file)?,
+                inputs: vec![at(dir, &g.file)?],
                 out: out.clone(),
                 settings: s,
                 terrain: match (&p.dem, g.terrain_outer_m) {
@@ -88,8 +88,13 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                     }),
                     _ => None,
                 },
-                epsg: p.epsg,
+                read: ReadOptions {
+                    epsg: p.epsg,
+                    ..Default::default()
+                },
                 base: BaseTie::of(g.base_value_mgal, g.base_station.as_deref()),
+                bases: None,
+                meter_table: None,
                 max_drift_mgal_per_h: g.max_drift_mgal_per_h,
                 tide: g.tide,
                 gravimetric_factor: g.gravimetric_factor,
