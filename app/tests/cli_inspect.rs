@@ -85,3 +85,48 @@ fn a_file_too_big_for_the_memory_limit_is_refused_before_reading() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     std::fs::remove_file(&p).ok();
 }
+
+#[test]
+fn roles_are_listed_and_stray_text_in_a_number_column_is_shown() {
+    let o = Command::new(env!("CARGO_BIN_EXE_fieldstone"))
+        .args(["inspect", "--roles"])
+        .output()
+        .unwrap();
+    assert!(o.status.success());
+    let s = String::from_utf8_lossy(&o.stdout);
+    for key in [
+        "x ",
+        "y ",
+        "lon ",
+        "lat ",
+        "height ",
+        "line ",
+        "station ",
+        "time ",
+        "date ",
+        "gravity ",
+        "magnetic ",
+    ] {
+        assert!(
+            s.lines().any(|l| l.starts_with(key)),
+            "no role key '{key}' in:\n{s}"
+        );
+    }
+    let o = inspect(
+        b"station_id,longitude,latitude,elevation,time_minutes,reading\nB1,-80.5,43.1,310,0,2851.2\n2,-80.4,43.1,311,10,2850.1\n3,-80.4,43.1,312,20,28S0.4\n4,-80.4,43.1,313,30,2849.9\n5,-80.4,43.1,314,40,2849.7\n6,-80.4,43.1,314,50,2849.5\n",
+        &["--dummy", "-99999", "--header"],
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let s = String::from_utf8_lossy(&o.stdout);
+    for want in [
+        "station / fiducial",
+        "longitude",
+        "latitude",
+        "elevation",
+        "gravity reading",
+        "column 'reading' holds numbers but 1 value(s) are not numbers",
+        "line 4: '28S0.4'",
+    ] {
+        assert!(s.contains(want), "missing '{want}' in:\n{s}");
+    }
+}

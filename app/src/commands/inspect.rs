@@ -1,21 +1,31 @@
 //! `fieldstone inspect FILE [--delimiter D] [--no-header] [--header] [--dummy V]`
+//! and `fieldstone inspect --roles`
 //!
 //! Prints what an import would see: delimiter and header (detected or given),
 //! each column's guessed role, unit and kind, the row count, dummy counts and
-//! min / mean / max of numeric columns, and the line count when a column has
-//! the line role.
+//! min / mean / max of numeric columns, the values that are not numbers in a
+//! column of mostly numbers (file, line and text), and the line count when a
+//! column has the line role. `--roles` lists the role keys that
+//! `--column ROLE=HEADER` takes.
 
 use clap::Args;
 use fieldstone_core::survey::columns::{guess_column, Role};
+use fieldstone_core::survey::import::read_head;
 use fieldstone_core::table::read::read_table;
+use fieldstone_core::table::sniff::{parse_number, sniff};
 use fieldstone_core::table::{ColumnData, Delimiter, TextOptions};
+use fieldstone_core::table::{ColumnKind, TableError};
 use std::collections::HashSet;
 use std::path::PathBuf;
 
 #[derive(Debug, Args)]
 pub struct InspectArgs {
     /// Delimited text file (line data, drill-hole table, XYZ grid...).
-    pub file: PathBuf,
+    #[arg(required_unless_present = "roles")]
+    pub file: Option<PathBuf>,
+    /// List the roles a column can take (the keys of --column ROLE=HEADER).
+    #[arg(long)]
+    pub roles: bool,
     /// Field separator: comma, tab, semicolon or whitespace (detected when omitted).
     #[arg(long)]
     pub delimiter: Option<String>,
@@ -30,7 +40,51 @@ pub struct InspectArgs {
     pub dummy: Option<f64>,
 }
 
+/// Lists the role keys with what each means and its units.
+fn print_roles() {
+    println!(
+        "{:<18} {:<24} units (the first is the default)",
+        "key", "meaning"
+    );
+    for r in Role::ALL {
+        let units: Vec<&str> = r
+            .units()
+            .iter()
+            .map(|u| u.label())
+            .filter(|l| !l.is_empty())
+            .collect();
+        println!("{:<18} {:<24} {}", r.key(), r.label(), units.join(", "));
+    }
+    println!();
+    println!("time columns take s, min or h (elapsed time), clock, hours_of_day or seconds_of_day with --unit HEADER=UNIT");
+}
+
+/// The unit shown for a column: its guessed unit, or for a time column the
+/// elapsed-time unit its header names.
+fn unit_label(g: &fieldstone_core::survey::columns::ColumnSpec, name: &str) -> &'static str {
+    use fieldstone_core::survey::time::TimeFormat;
+    match (
+        g.role,
+        fieldstone_core::survey::columns::time_format_hint(name),
+    ) {
+        (Role::Time, Some(TimeFormat::ElapsedSeconds)) => "s (elapsed)",
+        (Role::Time, Some(TimeFormat::ElapsedMinutes)) => "min (elapsed)",
+        (Role::Time, Some(TimeFormat::ElapsedHours)) => "h (elapsed)",
+        _ => g.unit.label(),
+    }
+}
+
+/// Most values that are not numbers reported per column.
+const SHOWN_NOT_NUMBERS: usize = 5;
+
 pub fn run(args: &InspectArgs) -> super::CliResult {
+    if args.roles {
+        print_roles();
+        return Ok(());
+    }
+    let Some(file) = args.file.as_ref() else {
+        return Err("give a FILE to inspect, or --roles".to_string().into());
+    };
     let delimiter = match &args.delimiter {
         Some(d) => Some(Delimiter::parse(d).ok_or_else(|| {
             format!("--delimiter '{d}' is not one of: comma, tab, semicolon, whitespace")
@@ -49,9 +103,34 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
         has_header,
         dummy_value: args.dummy,
     };
-    let t = read_table(&args.file, &opts, None).map_err(|e| e.to_string())?;
+    // A column the first lines show as numbers is read again as text when a
+    // value further down is not a number, and its stray values are shown.
+    let head = read_head(file).map_err(|e| e.to_string())?;
+    let sn = sniff(&head, file, &opts).map_err(|e| e.to_string())?;
+    let mut kinds = sn.kinds.clone();
+    let mut demoted = vec![false; kinds.len()];
+    let t = loop {
+        match read_table(file, &opts, Some(&kinds)) {
+            Err(TableError::NotNumber { column, .. }) => {
+                match sn.names.iter().position(|n| *n == column) {
+                    Some(i) if kinds[i] == ColumnKind::Number => {
+                        kinds[i] = ColumnKind::Text;
+                        demoted[i] = true;
+                    }
+                    _ => {
+                        return Err(format!(
+                            "{}: column '{column}' could not be read",
+                            file.display()
+                        )
+                        .into())
+                    }
+                }
+            }
+            r => break r.map_err(|e| e.to_string())?,
+        }
+    };
     let said = |given: bool| if given { "given" } else { "detected" };
-    println!("file: {}", args.file.display());
+    println!("file: {}", file.display());
     println!(
         "delimiter: {} ({})",
         t.delimiter.name(),
@@ -70,8 +149,9 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
         "#", "column", "role", "unit", "kind", "dummies", "min", "mean", "max"
     );
     let mut line_count = None;
+    let mut not_numbers = Vec::new();
     for (i, (name, col)) in t.names.iter().zip(&t.columns).enumerate() {
-        let numeric = matches!(col, ColumnData::Number(_));
+        let numeric = matches!(col, ColumnData::Number(_)) || demoted[i];
         let g = guess_column(name, numeric);
         let (kind, stats) = match col {
             ColumnData::Number(v) => {
@@ -90,7 +170,33 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
                 };
                 ("number", st)
             }
-            ColumnData::Text(_) => ("text", String::new()),
+            ColumnData::Text(v) => {
+                // A column of mostly numbers with a few that are not: the
+                // import would read it as text, so show the culprits.
+                let filled: Vec<usize> = (0..v.len())
+                    .filter(|k| !fieldstone_core::table::is_dummy_token(&v[*k]))
+                    .collect();
+                let bad: Vec<usize> = filled
+                    .iter()
+                    .copied()
+                    .filter(|k| parse_number(&v[*k], t.delimiter).is_none())
+                    .collect();
+                if g.role.is_numeric()
+                    && !bad.is_empty()
+                    && filled.len() >= 4
+                    && bad.len() * 5 <= filled.len()
+                {
+                    not_numbers.push((
+                        name.clone(),
+                        bad.len(),
+                        bad.iter()
+                            .take(SHOWN_NOT_NUMBERS)
+                            .map(|k| (t.lines[*k], v[*k].clone()))
+                            .collect::<Vec<_>>(),
+                    ));
+                }
+                ("text", String::new())
+            }
         };
         if g.role == Role::Line && line_count.is_none() {
             let distinct: HashSet<String> = match col {
@@ -104,11 +210,23 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
             i + 1,
             name,
             g.role.label(),
-            g.unit.label(),
+            unit_label(&g, name),
             kind,
             t.dummies[i],
             stats
         );
+    }
+    for (name, n, shown) in &not_numbers {
+        println!();
+        println!(
+            "column '{name}' holds numbers but {n} value(s) are not numbers, so it reads as text:"
+        );
+        for (line, text) in shown {
+            println!("  {}: line {line}: '{text}'", file.display());
+        }
+        if *n > shown.len() {
+            println!("  … and {} more", n - shown.len());
+        }
     }
     println!();
     match line_count {

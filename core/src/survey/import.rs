@@ -310,7 +310,8 @@ pub fn import_memory_needed(path: &Path, head: &[u8], kinds: &[ColumnKind]) -> u
     rows * (crate::table::read::bytes_per_row(kinds) + 32)
 }
 
-fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
+/// The first 256 kB of a file, for sniffing its layout.
+pub fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
     let f = std::fs::File::open(path).map_err(|source| TableError::Read {
         file: path.to_path_buf(),
         source,
@@ -410,7 +411,7 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
             ),
         });
     }
-    let kinds: Vec<ColumnKind> = spec
+    let mut kinds: Vec<ColumnKind> = spec
         .columns
         .iter()
         .zip(&sn.kinds)
@@ -430,7 +431,28 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
         file: file.clone(),
         source,
     })?;
-    let table = read_table(path, &spec.text, Some(&kinds))?;
+    // Station ids, line names and carried columns the first lines showed as
+    // numbers may hold a label further down (a base "B1" among numbered
+    // stations): such a column is read again as text.
+    let table = loop {
+        match read_table(path, &spec.text, Some(&kinds)) {
+            Err(TableError::NotNumber { column, .. })
+                if spec.columns.iter().zip(&kinds).any(|(c, k)| {
+                    c.name == column
+                        && *k == ColumnKind::Number
+                        && matches!(
+                            c.role,
+                            Role::Station | Role::Line | Role::PassThrough | Role::Time
+                        )
+                }) =>
+            {
+                if let Some(i) = spec.columns.iter().position(|c| c.name == column) {
+                    kinds[i] = ColumnKind::Text;
+                }
+            }
+            r => break r?,
+        }
+    };
     let n = table.n_rows();
     let mut warnings = Vec::new();
     let dummies: Vec<(String, usize)> = table
@@ -894,6 +916,23 @@ mod tests {
         assert_eq!(s.time_origin, TimeOrigin::Unknown);
         assert_eq!(s.time_s.as_deref(), Some(&[0.0, 750.0, 5700.0][..]));
         assert_eq!(s.channel(Role::Gravity).unwrap().values[1], 2849.911);
+        let _ = std::fs::remove_file(p);
+    }
+
+    #[test]
+    fn a_lettered_base_among_numbered_stations_reads_as_text() {
+        let mut text = String::from(
+            "station,lon,lat,elevation,time_minutes,reading\nB1,-80.5,43.1,310,0,2851.2\n",
+        );
+        for k in 2..40 {
+            text.push_str(&format!("{k},-80.4,43.1,311,{},2850.1\n", 10 * k));
+        }
+        let p = write("lettered", &text);
+        let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), None).unwrap();
+        let s = import_survey(&p, &spec).unwrap();
+        let st = s.station.as_ref().unwrap();
+        assert_eq!(st.text_at(0), "B1");
+        assert_eq!(st.text_at(1), "2");
         let _ = std::fs::remove_file(p);
     }
 
