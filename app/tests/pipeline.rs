@@ -459,18 +459,9 @@ fn run_refuses_bad_projects_with_a_message() {
         .output()
         .unwrap();
     assert!(String::from_utf8_lossy(&o.stderr).contains("no scenario 'nope'"));
-    p.gravity = Some(fieldstone_core::project::file::GravityInput {
-        file: "../outside.csv".into(),
-        base_station: None,
-        base_value_mgal: None,
-        max_drift_mgal_per_h: 0.05,
-        tide: false,
-        gravimetric_factor: 1.16,
-        terrain_outer_m: None,
-        uncertainty_floor_mgal: 0.02,
-        uncertainty_percent: 0.0,
-        rejected_rows: vec![],
-    });
+    p.gravity = Some(fieldstone_core::project::file::GravityInput::of_file(
+        "../outside.csv",
+    ));
     p.save(&dir).unwrap();
     let o = bin().arg("run").arg(&dir).output().unwrap();
     let e = String::from_utf8_lossy(&o.stderr);

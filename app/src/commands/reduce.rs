@@ -109,6 +109,13 @@ pub struct GravityArgs {
     /// interval factor per row): the readings are in counter units.
     #[arg(long = "meter-table", value_name = "TABLE.csv")]
     pub meter_table: Option<PathBuf>,
+    #[command(flatten)]
+    pub read: ReadArgs,
+}
+
+/// How the survey files are read: overrides of the guessed roles and units.
+#[derive(Debug, Args)]
+pub struct ReadArgs {
     /// Gives a role to the column of that header, overriding the guess
     /// (repeatable); ROLE is one of the keys `fieldstone inspect --roles` lists.
     #[arg(long = "column", value_name = "ROLE=HEADER")]
@@ -120,12 +127,29 @@ pub struct GravityArgs {
     pub units: Vec<String>,
 }
 
+impl ReadArgs {
+    /// The read options with the projected reference `epsg`.
+    fn options(&self, epsg: Option<u32>) -> Result<ReadOptions, fieldstone_pipeline::Error> {
+        let pairs = |option: &str, v: &[String]| {
+            v.iter()
+                .map(|t| split_pair(option, t))
+                .collect::<Result<Vec<_>, _>>()
+        };
+        Ok(ReadOptions {
+            columns: pairs("--column", &self.columns)?,
+            units: pairs("--unit", &self.units)?,
+            epsg,
+        })
+    }
+}
+
 #[derive(Debug, Args)]
 pub struct MagneticArgs {
-    /// Reading table (CSV): lat, lon (or x, y with --epsg), height_m, mag_nt,
-    /// optional time.
-    #[arg(long = "in", value_name = "FILE")]
-    pub input: PathBuf,
+    /// A file of the survey (repeat for several): coordinates (lat, lon, or
+    /// easting, northing with --epsg), height, the reading in nT, and a time
+    /// for the diurnal correction; roles and units guessed from the header.
+    #[arg(long = "in", value_name = "FILE", required = true)]
+    pub inputs: Vec<PathBuf>,
     /// Survey date for the main field (YYYY-MM-DD), and the day of times of day.
     #[arg(long)]
     pub date: String,
@@ -143,6 +167,8 @@ pub struct MagneticArgs {
     /// EPSG code of x, y columns (instead of lat, lon).
     #[arg(long)]
     pub epsg: Option<u32>,
+    #[command(flatten)]
+    pub read: ReadArgs,
 }
 
 pub fn run(cmd: &ReduceCommand) -> CliResult {
@@ -151,7 +177,7 @@ pub fn run(cmd: &ReduceCommand) -> CliResult {
             reduce_gravity(&gravity_job(a)?, &Stderr::default())?;
         }
         ReduceCommand::Magnetic(a) => {
-            reduce_magnetic(&magnetic_job(a), &Stderr::default())?;
+            reduce_magnetic(&magnetic_job(a)?, &Stderr::default())?;
         }
     }
     Ok(())
@@ -159,19 +185,10 @@ pub fn run(cmd: &ReduceCommand) -> CliResult {
 
 /// The reduction the gravity options ask for.
 pub fn gravity_job(a: &GravityArgs) -> Result<GravityJob, fieldstone_pipeline::Error> {
-    let pairs = |option: &str, v: &[String]| {
-        v.iter()
-            .map(|t| split_pair(option, t))
-            .collect::<Result<Vec<_>, _>>()
-    };
     Ok(GravityJob {
         inputs: a.inputs.clone(),
         out: a.out.clone(),
-        read: ReadOptions {
-            columns: pairs("--column", &a.columns)?,
-            units: pairs("--unit", &a.units)?,
-            epsg: a.epsg,
-        },
+        read: a.read.options(a.epsg)?,
         settings: GravitySettings {
             density_g_cc: a.density,
             ellipsoid: match a.ellipsoid {
@@ -205,14 +222,14 @@ pub fn gravity_job(a: &GravityArgs) -> Result<GravityJob, fieldstone_pipeline::E
 }
 
 /// The reduction the magnetic options ask for.
-pub fn magnetic_job(a: &MagneticArgs) -> MagneticJob {
-    MagneticJob {
-        input: a.input.clone(),
+pub fn magnetic_job(a: &MagneticArgs) -> Result<MagneticJob, fieldstone_pipeline::Error> {
+    Ok(MagneticJob {
+        inputs: a.inputs.clone(),
+        read: a.read.options(a.epsg)?,
         date: a.date.clone(),
         out: a.out.clone(),
         base: a.base.clone(),
         datum_nt: a.datum_nt,
         max_gap_s: a.max_gap_s,
-        epsg: a.epsg,
-    }
+    })
 }

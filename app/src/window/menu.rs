@@ -180,8 +180,7 @@ impl FieldstoneApp {
                 .is_some_and(|e| e.eq_ignore_ascii_case("csv") || e.eq_ignore_ascii_case("txt"))
             {
                 self.ws.step = Step::Survey;
-                self.panels.survey.import_path = p.display().to_string();
-                self.panels.survey.import_preview = None;
+                self.panels.survey.import.add(p.display().to_string());
             } else {
                 self.ws.log.push(format!(
                     "{} is not a project folder or a table; drop a project folder or a CSV file",

@@ -1,5 +1,6 @@
 //! The open project and everything the views show, loaded from its folder.
 
+use crate::pipeline::reduction::ReadOptions;
 use crate::pipeline::{
     at, load_model, load_model_context, load_points, project_states, run_dir, ModelContext, Points,
     RunFile,
@@ -10,7 +11,9 @@ use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
 use fieldstone_core::project::file::ProjectFile;
 use fieldstone_core::project::provenance::StepState;
-use fieldstone_core::table::passthrough::read_passthrough;
+use fieldstone_core::survey::columns::{Role, Unit};
+use fieldstone_core::survey::import::{import_survey, ImportSpec};
+use fieldstone_core::table::TextOptions;
 use std::cell::{Cell, RefCell};
 use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
@@ -18,7 +21,8 @@ use std::rc::Rc;
 use std::sync::mpsc::{channel, Receiver};
 use std::sync::Arc;
 
-/// A table's numeric columns by name (text columns kept as text).
+/// A survey table's numeric columns by name (text columns kept as text),
+/// every row's line and its projected position.
 #[derive(Default, Clone)]
 pub struct Readings {
     pub names: Vec<String>,
@@ -26,26 +30,94 @@ pub struct Readings {
     pub lines: Vec<String>,
     pub x: Vec<f64>,
     pub y: Vec<f64>,
+    /// The column of the readings (the one guessed or given the gravity or
+    /// magnetic role), to colour the stations by first.
+    pub value_column: Option<String>,
 }
 
 impl Readings {
-    pub fn load(path: &Path) -> Result<Readings, String> {
-        let t = read_passthrough(path, &[]).map_err(|e| e.to_string())?;
-        let mut r = Readings {
-            names: t.names.clone(),
-            ..Default::default()
-        };
-        for c in 0..t.names.len() {
-            r.numbers.push(t.numbers(c, false).ok());
-        }
-        let col = |n: &str| t.column(n).and_then(|c| r.numbers[c].clone());
-        r.x = col("x").unwrap_or_default();
-        r.y = col("y").unwrap_or_default();
-        if let Some(lc) = t.column("line") {
-            r.lines = (0..t.n_rows()).map(|k| t.text(k, lc)).collect();
+    /// Reads the files of a survey through the importer (as the
+    /// reductions do): positions from the coordinate columns in the
+    /// project's reference `read.epsg`; every other column by its name, as
+    /// written (numbers where it holds numbers).
+    pub fn load(paths: &[PathBuf], read: &ReadOptions) -> Result<Readings, String> {
+        let mut r = Readings::default();
+        for path in paths {
+            let mut spec = ImportSpec::guess_for_file(path, &TextOptions::default(), read.epsg)
+                .map_err(|e| e.to_string())?;
+            for (key, header) in &read.columns {
+                if let Some(role) = Role::from_key(key) {
+                    spec.set_role(role, header)
+                        .map_err(|e| format!("{}: {e}", path.display()))?;
+                }
+            }
+            let value = spec
+                .columns
+                .iter()
+                .find(|c| matches!(c.role, Role::Gravity | Role::Magnetic))
+                .map(|c| c.name.clone());
+            if r.value_column.is_none() {
+                r.value_column = value;
+            }
+            // Only the coordinates and the line keep their roles: the rest
+            // is shown as written (a reduced table has several columns a
+            // guess would call gravity).
+            for c in spec.columns.iter_mut() {
+                if !matches!(
+                    c.role,
+                    Role::Easting | Role::Northing | Role::Longitude | Role::Latitude | Role::Line
+                ) {
+                    c.role = Role::PassThrough;
+                    c.unit = Unit::None;
+                }
+            }
+            let s = import_survey(path, &spec).map_err(|e| e.to_string())?;
+            let n0 = r.x.len();
+            let n = s.n_rows();
+            for c in &spec.columns {
+                let values: Option<Vec<f64>> = match c.role {
+                    Role::Easting if s.lat.is_none() || spec.epsg.is_some() => Some(s.x.clone()),
+                    Role::Northing if s.lat.is_none() || spec.epsg.is_some() => Some(s.y.clone()),
+                    Role::Longitude => s.lon.clone(),
+                    Role::Latitude => s.lat.clone(),
+                    _ => s
+                        .channels
+                        .iter()
+                        .find(|ch| ch.name == c.name)
+                        .map(|ch| ch.values.clone()),
+                };
+                let k = match r.names.iter().position(|m| m.eq_ignore_ascii_case(&c.name)) {
+                    Some(k) => k,
+                    None => {
+                        r.names.push(c.name.clone());
+                        r.numbers.push(Some(vec![f64::NAN; n0]));
+                        r.names.len() - 1
+                    }
+                };
+                match (&mut r.numbers[k], values) {
+                    (Some(v), Some(new)) => v.extend(new),
+                    (slot, _) => *slot = None,
+                }
+            }
+            // Columns of earlier files this file lacks.
+            for v in r.numbers.iter_mut().flatten() {
+                v.resize(n0 + n, f64::NAN);
+            }
+            let mut line_of = vec![String::new(); n];
+            for l in &s.lines {
+                for &row in &l.rows {
+                    if let Some(x) = line_of.get_mut(row as usize) {
+                        *x = l.name.clone();
+                    }
+                }
+            }
+            r.lines.extend(line_of);
+            r.x.extend_from_slice(&s.x);
+            r.y.extend_from_slice(&s.y);
         }
         Ok(r)
     }
+
     pub fn column(&self, name: &str) -> Option<&Vec<f64>> {
         let i = self
             .names
@@ -108,6 +180,8 @@ pub struct Doc {
     planning: Option<(u64, Receiver<PlannedStates>)>,
     /// Views being read from the folder off the frame.
     loading: Option<Receiver<Views>>,
+    /// Read the views again once the current edit is committed.
+    reload_pending: bool,
     /// The constraint arrays of one scenario at one generation.
     constraints: RefCell<Option<ConstraintCache>>,
     /// How often the plan and the constraint arrays were worked out (the
@@ -156,6 +230,7 @@ impl Doc {
             states_generation: None,
             planning: None,
             loading: None,
+            reload_pending: false,
             constraints: RefCell::new(None),
             plans_started: Cell::new(0),
             constraint_builds: Cell::new(0),
@@ -230,6 +305,10 @@ impl Doc {
     /// shows the last states until the new ones arrive. One planning at a
     /// time: edits made meanwhile are planned when it ends.
     pub fn poll(&mut self) {
+        if self.reload_pending && self.loading.is_none() {
+            self.reload_pending = false;
+            self.reload();
+        }
         if let Some(rx) = &self.loading {
             match rx.try_recv() {
                 Ok(v) => {
@@ -340,13 +419,23 @@ impl Doc {
         self.loading = Some(rx);
     }
 
+    /// Reads the views again after this frame's edit is committed (an
+    /// import changed the survey's files).
+    pub fn reload_after_edit(&mut self) {
+        self.reload_pending = true;
+    }
+
     /// True while the views are being read.
     pub fn loading(&self) -> bool {
-        self.loading.is_some()
+        self.loading.is_some() || self.reload_pending
     }
 
     /// Waits for the views being read (tests, and closing).
     pub fn wait_loaded(&mut self) {
+        if self.reload_pending {
+            self.reload_pending = false;
+            self.reload();
+        }
         if let Some(rx) = self.loading.take() {
             if let Ok(v) = rx.recv() {
                 self.take_views(v);
@@ -373,19 +462,35 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
     };
     if let Some(g) = &p.gravity {
         note(
-            at(dir, &g.file)
+            g.files()
+                .map(|f| at(dir, f))
+                .collect::<Result<Vec<_>, _>>()
                 .map_err(String::from)
-                .and_then(|f| Readings::load(&f))
+                .and_then(|files| {
+                    Readings::load(
+                        &files,
+                        &ReadOptions {
+                            columns: g.columns.clone(),
+                            units: g.units.clone(),
+                            epsg: p.epsg,
+                        },
+                    )
+                })
                 .map(|r| v.gravity_raw = Some(Arc::new(r))),
         );
     }
+    // The reductions' outputs keep the survey's own columns.
+    let plain = ReadOptions {
+        epsg: p.epsg,
+        ..Default::default()
+    };
     let red = dir.join("data/gravity_reduced.csv");
     if red.exists() {
-        note(Readings::load(&red).map(|r| v.gravity_reduced = Some(Arc::new(r))));
+        note(Readings::load(&[red], &plain).map(|r| v.gravity_reduced = Some(Arc::new(r))));
     }
     let mred = dir.join("data/magnetic_reduced.csv");
     if mred.exists() {
-        note(Readings::load(&mred).map(|r| v.magnetic_reduced = Some(Arc::new(r))));
+        note(Readings::load(&[mred], &plain).map(|r| v.magnetic_reduced = Some(Arc::new(r))));
     }
     if let Some(d) = &p.dem {
         note(

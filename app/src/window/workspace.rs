@@ -66,6 +66,9 @@ pub struct Workspace {
     /// When the forms last changed the project (edits within a moment of
     /// each other undo together).
     pub last_edit: Option<std::time::Instant>,
+    /// The title and result of the last job to end, for the panel that
+    /// started it.
+    pub finished: Option<(String, Result<String, super::jobs::Failure>)>,
 }
 
 impl Default for Workspace {
@@ -85,6 +88,7 @@ impl Default for Workspace {
             display: Display::default(),
             last_iterations: vec![],
             last_edit: None,
+            finished: None,
         }
     }
 }
@@ -176,6 +180,7 @@ impl Workspace {
         job.poll();
         if let Some(r) = job.result.clone() {
             self.log.append(&mut job.lines);
+            self.finished = Some((job.title.clone(), r.clone()));
             match r {
                 Ok(m) => self.log.push(format!("{} finished: {m}", job.title)),
                 Err(e) => {

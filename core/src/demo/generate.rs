@@ -630,16 +630,10 @@ pub fn write_demo(out: &Path, size: DemoSize, obs: &dyn Observer) -> Result<Demo
     p.background_density_g_cc = settings.density_g_cc;
     p.inducing_field = Some(inducing);
     p.gravity = Some(GravityInput {
-        file: "inputs/gravity_readings.csv".into(),
         base_station: Some("BASE".into()),
         base_value_mgal: Some(base_value),
-        max_drift_mgal_per_h: 0.05,
-        tide: true,
-        gravimetric_factor: 1.16,
         terrain_outer_m: Some(1500.0),
-        uncertainty_floor_mgal: 0.02,
-        uncertainty_percent: 0.0,
-        rejected_rows: vec![],
+        ..GravityInput::of_file("inputs/gravity_readings.csv")
     });
     p.magnetic = Some(MagneticInput {
         file: "inputs/magnetic_readings.csv".into(),

@@ -105,6 +105,57 @@ pub struct GravityInput {
     /// of gridding and inversion; the file itself is never changed.
     #[serde(default)]
     pub rejected_rows: Vec<usize>,
+    /// More files of the same survey (one a day, say), read with the same
+    /// settings after `file`; rejected rows count through them in order.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub more_files: Vec<String>,
+    /// Overrides of the guessed column roles: (role key, header).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub columns: Vec<(String, String)>,
+    /// Overrides of the guessed units: (header, unit).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub units: Vec<(String, String)>,
+    /// Table of base stations (id, absolute gravity in mGal or blank),
+    /// adjusted as a network by least squares.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bases: Option<String>,
+    /// The meter's calibration table: the readings are in counter units.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub meter_table: Option<String>,
+    /// Date (YYYY-MM-DD) of readings whose times are times of day.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub date: Option<String>,
+}
+
+impl GravityInput {
+    /// A survey of `file` with the usual settings: relative readings tied
+    /// to no base yet, tide on, flags above 0.05 mGal/h, an uncertainty of
+    /// 0.02 mGal (common practice for ground surveys with modern meters).
+    pub fn of_file(file: &str) -> GravityInput {
+        GravityInput {
+            file: file.to_string(),
+            base_station: None,
+            base_value_mgal: None,
+            max_drift_mgal_per_h: 0.05,
+            tide: true,
+            gravimetric_factor: 1.16,
+            terrain_outer_m: None,
+            uncertainty_floor_mgal: 0.02,
+            uncertainty_percent: 0.0,
+            rejected_rows: vec![],
+            more_files: vec![],
+            columns: vec![],
+            units: vec![],
+            bases: None,
+            meter_table: None,
+            date: None,
+        }
+    }
+
+    /// Every file of the survey, in reading order.
+    pub fn files(&self) -> impl Iterator<Item = &String> {
+        std::iter::once(&self.file).chain(&self.more_files)
+    }
 }
 
 /// The magnetic survey of a project.
@@ -366,6 +417,15 @@ impl ProjectFile {
         }
         if let Some(g) = &self.gravity {
             paths.push(("gravity.file".into(), &g.file));
+            for (k, f) in g.more_files.iter().enumerate() {
+                paths.push((format!("gravity.more_files[{k}]"), f));
+            }
+            if let Some(b) = &g.bases {
+                paths.push(("gravity.bases".into(), b));
+            }
+            if let Some(m) = &g.meter_table {
+                paths.push(("gravity.meter_table".into(), m));
+            }
         }
         if let Some(m) = &self.magnetic {
             paths.push(("magnetic.file".into(), &m.file));

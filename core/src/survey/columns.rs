@@ -201,6 +201,20 @@ impl Unit {
         }
     }
 
+    /// The name [`Unit::parse`] reads back.
+    pub fn key(&self) -> &'static str {
+        match self {
+            Unit::None => "none",
+            Unit::Metre => "m",
+            Unit::Foot => "ft",
+            Unit::UsSurveyFoot => "usft",
+            Unit::Mgal => "mgal",
+            Unit::MicrometrePerSecond2 => "gu",
+            Unit::Nanotesla => "nt",
+            Unit::Degree => "deg",
+        }
+    }
+
     /// Factor to the program unit (m, mGal, nT, degrees).
     pub fn factor(&self) -> f64 {
         match self {
@@ -529,6 +543,18 @@ mod tests {
         assert_eq!(Unit::parse("mGal"), Some(Unit::Mgal));
         assert_eq!(Unit::parse("ft"), Some(Unit::Foot));
         assert_eq!(Unit::parse("furlong"), None);
+        for u in [
+            Unit::None,
+            Unit::Metre,
+            Unit::Foot,
+            Unit::UsSurveyFoot,
+            Unit::Mgal,
+            Unit::MicrometrePerSecond2,
+            Unit::Nanotesla,
+            Unit::Degree,
+        ] {
+            assert_eq!(Unit::parse(u.key()), Some(u));
+        }
     }
 
     #[test]

@@ -4,8 +4,8 @@
 //! terrain correction from a DEM. A survey is one or more files, read
 //! through core's importer.
 
-use super::survey_files::{read_survey_files, ReadOptions, SurveyFile, SOURCE_COLUMN};
-use super::table::{guard_inputs, write_tables};
+use super::survey_files::{read_survey_files, write_survey, ReadOptions, SurveyFile};
+use super::table::guard_inputs;
 use crate::error::{Error, Result};
 use fieldstone_core::geodesy::crs::Crs;
 use fieldstone_core::grid::geotiff::read_geotiff;
@@ -111,6 +111,16 @@ pub struct GravityJob {
     pub date: Option<String>,
 }
 
+/// One reduced reading, for the steps after the reduction.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReducedReading {
+    /// Easting, northing (m, in the survey's projected reference) and height (m).
+    pub xyz: [f64; 3],
+    pub complete_bouguer_anomaly_mgal: f64,
+    /// A reading at a base station (not a survey station).
+    pub at_base: bool,
+}
+
 /// Observed gravity of every row of one file, with the tide and drift
 /// corrections for relative readings.
 struct Observed {
@@ -120,9 +130,10 @@ struct Observed {
 }
 
 /// Reduces the readings of `job`, reporting loops, the base network and
-/// checks to `obs` (which may cancel the terrain correction). Returns the
-/// number of rows.
-pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<usize> {
+/// checks to `obs` (which may cancel the terrain correction). Returns every
+/// reading's position and complete Bouguer anomaly, in file order then row
+/// order.
+pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<Vec<ReducedReading>> {
     let mut inputs: Vec<&std::path::Path> = job.inputs.iter().map(|p| p.as_path()).collect();
     inputs.extend(job.bases.as_deref());
     inputs.extend(job.meter_table.as_deref());
@@ -157,11 +168,18 @@ pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<usize> {
             })
             .collect::<Result<_>>()?
     };
+    let bases = listed_bases(job)?;
     let mut red = Vec::with_capacity(files.len());
+    let mut readings = Vec::new();
     let (mut faa, mut per_density, mut heights) = (Vec::new(), Vec::new(), Vec::new());
     for (f, o) in files.iter().zip(&observed) {
         let (lat, _) = f.lat_lon()?;
         let h = f.heights()?;
+        let ids = if bases.is_empty() {
+            None
+        } else {
+            Some(f.station_ids("the station ids")?)
+        };
         let terrain = match &job.terrain {
             Some(ti) => terrain_of(ti, f, h, density, obs)?,
             None => vec![0.0; h.len()],
@@ -171,6 +189,11 @@ pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<usize> {
             .map(|k| reduce_station(&job.settings, o.gravity_mgal[k], lat[k], h[k], terrain[k]))
             .collect();
         for (k, x) in r.iter().enumerate() {
+            readings.push(ReducedReading {
+                xyz: [f.survey.x[k], f.survey.y[k], h[k]],
+                complete_bouguer_anomaly_mgal: x.complete_bouguer_anomaly,
+                at_base: ids.as_ref().is_some_and(|i| bases.contains_key(&i[k])),
+            });
             faa.push(x.free_air_anomaly);
             per_density
                 .push((x.bouguer_slab - x.curvature_correction - x.terrain_correction) / density);
@@ -178,34 +201,25 @@ pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<usize> {
         }
         red.push(r);
     }
-    let tables: Vec<_> = files.iter().map(|f| &f.raw).collect();
-    let sources: Vec<String> = files.iter().map(|f| f.path.display().to_string()).collect();
-    write_tables(
-        &job.out,
-        &tables,
-        SOURCE_COLUMN,
-        &sources,
-        &names,
-        |k, i| {
-            let r = &red[k][i];
-            let mut v = vec![
-                r.normal_gravity,
-                r.free_air_correction,
-                r.atmospheric_correction,
-                r.bouguer_slab,
-                r.curvature_correction,
-                r.terrain_correction,
-                r.free_air_anomaly,
-                r.bouguer_anomaly,
-                r.complete_bouguer_anomaly,
-            ];
-            let o = &observed[k];
-            if let (Some(tc), Some(dc)) = (&o.tide_mgal, &o.drift_mgal) {
-                v.extend_from_slice(&[tc[i], dc[i], o.gravity_mgal[i]]);
-            }
-            v
-        },
-    )?;
+    write_survey(&job.out, &files, &names, |k, i| {
+        let r = &red[k][i];
+        let mut v = vec![
+            r.normal_gravity,
+            r.free_air_correction,
+            r.atmospheric_correction,
+            r.bouguer_slab,
+            r.curvature_correction,
+            r.terrain_correction,
+            r.free_air_anomaly,
+            r.bouguer_anomaly,
+            r.complete_bouguer_anomaly,
+        ];
+        let o = &observed[k];
+        if let (Some(tc), Some(dc)) = (&o.tide_mgal, &o.drift_mgal) {
+            v.extend_from_slice(&[tc[i], dc[i], o.gravity_mgal[i]]);
+        }
+        v
+    })?;
     let n = faa.len();
     // Nettleton's density over the whole survey, as a check on the density.
     match fieldstone_core::reduce::nettleton::nettleton(&faa, &per_density, &heights, (1.8, 3.2), 0.05) {
@@ -217,7 +231,7 @@ pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<usize> {
         files.len(),
         job.out.display(),
     ));
-    Ok(n)
+    Ok(readings)
 }
 
 /// The bases of a relative survey: the table's, and the one tie of

@@ -11,6 +11,6 @@ pub mod magnetic;
 pub mod survey_files;
 mod table;
 
-pub use gravity::{reduce_gravity, BaseTie, GravityJob, TerrainInputs};
+pub use gravity::{reduce_gravity, BaseTie, GravityJob, ReducedReading, TerrainInputs};
 pub use magnetic::{reduce_magnetic, MagneticJob};
 pub use survey_files::{split_pair, ReadOptions, SOURCE_COLUMN};

@@ -225,3 +225,16 @@ impl SurveyFile {
         self.survey.file_lines[r]
     }
 }
+
+/// Writes the survey's rows as one table: every input column, the file of
+/// each row ([`SOURCE_COLUMN`]), then `names` with `rows(file, row)`.
+pub fn write_survey(
+    out: &Path,
+    files: &[SurveyFile],
+    names: &[&str],
+    rows: impl FnMut(usize, usize) -> Vec<f64>,
+) -> Result<()> {
+    let tables: Vec<_> = files.iter().map(|f| &f.raw).collect();
+    let sources: Vec<String> = files.iter().map(|f| f.path.display().to_string()).collect();
+    super::table::write_tables(out, &tables, SOURCE_COLUMN, &sources, names, rows)
+}

@@ -1,78 +1,18 @@
 //! What both reductions share: positions of the rows, times, the output.
 
 use crate::error::{Error, Result};
-use fieldstone_core::geodesy::crs::Crs;
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
 use fieldstone_core::survey::time::{
     parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat,
 };
 use fieldstone_core::table::passthrough::{
-    write_tables_with_columns, write_with_columns, PassThroughError, PassThroughTable,
+    write_tables_with_columns, PassThroughError, PassThroughTable,
 };
 use std::path::Path;
 
 /// A pass-through table error as a pipeline error.
 pub(crate) fn table_error(e: PassThroughError) -> Error {
     Error::Input(e.to_string())
-}
-
-/// Positions of every row: latitude and longitude, degrees.
-pub(crate) struct Positions {
-    pub lat: Vec<f64>,
-    pub lon: Vec<f64>,
-}
-
-/// Latitude and longitude of every row: from x, y in the projected
-/// reference `epsg`, or from lat, lon columns when there is none.
-pub(crate) fn positions(t: &PassThroughTable, epsg: Option<u32>) -> Result<Positions> {
-    match epsg {
-        Some(code) => {
-            let crs = Crs::from_epsg(code).map_err(|e| format!("EPSG code: {e}"))?;
-            if crs.is_geographic() {
-                return Err(format!("EPSG:{code} is geographic; give lat and lon columns instead of x and y, or a projected code").into());
-            }
-            let hint = "with a projected EPSG code the file needs x and y (metres)";
-            let x = t
-                .numbers(t.require("x", hint).map_err(table_error)?, true)
-                .map_err(table_error)?;
-            let y = t
-                .numbers(t.require("y", hint).map_err(table_error)?, true)
-                .map_err(table_error)?;
-            let (mut lat, mut lon) = (Vec::with_capacity(x.len()), Vec::with_capacity(x.len()));
-            for k in 0..x.len() {
-                let (a, b) = crs
-                    .unproject(x[k], y[k])
-                    .map_err(|e| format!("{}: line {}: {e}", t.file.display(), t.lines[k]))?;
-                lat.push(a);
-                lon.push(b);
-            }
-            Ok(Positions { lat, lon })
-        }
-        None => {
-            let hint = "give lat and lon in degrees, or x and y with a projected EPSG code";
-            let lat = t
-                .numbers(t.require("lat", hint).map_err(table_error)?, true)
-                .map_err(table_error)?;
-            let lon = t
-                .numbers(t.require("lon", hint).map_err(table_error)?, true)
-                .map_err(table_error)?;
-            for k in 0..lat.len() {
-                if !(-90.0..=90.0).contains(&lat[k]) {
-                    return Err(format!("{}: line {}, column 'lat': latitude {} is outside −90 to 90 (are lat and lon swapped?)", t.file.display(), t.lines[k], lat[k]).into());
-                }
-                if !(-360.0..=360.0).contains(&lon[k]) {
-                    return Err(format!(
-                        "{}: line {}, column 'lon': longitude {} is outside −360 to 360",
-                        t.file.display(),
-                        t.lines[k],
-                        lon[k]
-                    )
-                    .into());
-                }
-            }
-            Ok(Positions { lat, lon })
-        }
-    }
 }
 
 /// Times (seconds since 1970 UTC) of a time column: ISO date-times, or times
@@ -141,16 +81,6 @@ fn write_csv_atomically<D: std::fmt::Display>(
         })
     });
     r.map_err(|e| e.0)
-}
-
-/// Writes the input's columns and `names` after them, atomically.
-pub(crate) fn write_output(
-    out: &Path,
-    t: &PassThroughTable,
-    names: &[&str],
-    rows: impl FnMut(usize) -> Vec<f64>,
-) -> Result<()> {
-    write_csv_atomically(out, |w| write_with_columns(t, names, rows, w))
 }
 
 /// Writes several tables as one (their columns, `source` naming each row's

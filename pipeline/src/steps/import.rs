@@ -7,12 +7,13 @@ use crate::context::hole_spec;
 use crate::data::write_text;
 use crate::error::Result;
 use crate::paths::{at, data_path};
+use crate::reduction::survey_files::{read_survey_files, ReadOptions};
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::drillhole::tables::load_holes;
 use fieldstone_core::grid::geotiff::read_geotiff;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
 use fieldstone_core::project::provenance::{hash_bytes, hash_json};
-use fieldstone_core::table::passthrough::read_passthrough;
+use fieldstone_core::survey::columns::Role;
 use std::path::{Path, PathBuf};
 
 /// The import step.
@@ -63,28 +64,51 @@ impl Stage for Import {
 fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
     let mut report = serde_json::Map::new();
     let mut parts = Vec::new();
-    let need =
-        |t: &fieldstone_core::table::passthrough::PassThroughTable, cols: &[&str]| -> Result<()> {
-            for c in cols {
-                t.require(c, "see the project's survey settings")
-                    .map_err(|e| e.to_string())?;
-            }
-            Ok(())
-        };
     if let Some(g) = &p.gravity {
-        let t = read_passthrough(&at(dir, &g.file)?, &[]).map_err(|e| e.to_string())?;
-        need(&t, &["x", "y", "height_m", "gravity_mgal"])?;
-        if g.base_station.is_some() {
-            need(&t, &["time", "station"])?;
+        let files: Vec<PathBuf> = g.files().map(|f| at(dir, f)).collect::<Result<_>>()?;
+        let read = ReadOptions {
+            columns: g.columns.clone(),
+            units: g.units.clone(),
+            epsg: p.epsg,
+        };
+        let survey = read_survey_files(&files, &read, &[])?;
+        let mut n = 0;
+        for f in &survey {
+            f.lat_lon()?;
+            f.heights()?;
+            f.channel(Role::Gravity, "the readings", "reading or gravity_mgal")?;
+            if g.base_station.is_some() || g.bases.is_some() {
+                f.station_ids("the station ids (drift needs the base readings)")?;
+                f.times(g.date.as_deref())?;
+            }
+            n += f.survey.n_rows();
         }
-        report.insert("gravity_readings".into(), t.n_rows().into());
-        parts.push(format!("{} gravity readings", t.n_rows()));
+        if let Some(b) = &g.bases {
+            fieldstone_core::reduce::network::read_bases(&at(dir, b)?)?;
+        }
+        if let Some(m) = &g.meter_table {
+            fieldstone_core::reduce::meter::MeterTable::read(&at(dir, m)?)
+                .map_err(|e| e.to_string())?;
+        }
+        report.insert("gravity_readings".into(), n.into());
+        report.insert("gravity_files".into(), survey.len().into());
+        parts.push(format!("{n} gravity readings in {} file(s)", survey.len()));
     }
     if let Some(m) = &p.magnetic {
-        let t = read_passthrough(&at(dir, &m.file)?, &[]).map_err(|e| e.to_string())?;
-        need(&t, &["x", "y", "height_m", "mag_nt"])?;
-        report.insert("magnetic_readings".into(), t.n_rows().into());
-        parts.push(format!("{} magnetic readings", t.n_rows()));
+        let read = ReadOptions {
+            epsg: p.epsg,
+            ..Default::default()
+        };
+        let survey = read_survey_files(&[at(dir, &m.file)?], &read, &[])?;
+        let mut n = 0;
+        for f in &survey {
+            f.lat_lon()?;
+            f.heights()?;
+            f.channel(Role::Magnetic, "the readings", "mag_nt or tmi")?;
+            n += f.survey.n_rows();
+        }
+        report.insert("magnetic_readings".into(), n.into());
+        parts.push(format!("{n} magnetic readings"));
     }
     if let Some(d) = &p.dem {
         let g = read_geotiff(&at(dir, d)?).map_err(|e| e.to_string())?;

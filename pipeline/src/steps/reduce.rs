@@ -14,7 +14,6 @@ use crate::reduction::{
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
 use fieldstone_core::project::provenance::hash_json;
-use fieldstone_core::table::passthrough::read_passthrough;
 use std::path::{Path, PathBuf};
 
 /// The reduce step.
@@ -52,32 +51,15 @@ impl Stage for Reduce {
     }
 }
 
-/// A reduced table and the numbers of four of its columns.
-fn numeric_columns(
-    path: &Path,
-    names: [&str; 4],
-) -> Result<(
-    fieldstone_core::table::passthrough::PassThroughTable,
-    [Vec<f64>; 4],
-)> {
-    let t = read_passthrough(path, &[]).map_err(|e| e.to_string())?;
-    let mut cols: [Vec<f64>; 4] = Default::default();
-    for (c, name) in cols.iter_mut().zip(names) {
-        let i = t.require(name, "").map_err(|e| e.to_string())?;
-        *c = t.numbers(i, true).map_err(|e| e.to_string())?;
-    }
-    Ok((t, cols))
-}
-
 fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
     let mut parts = Vec::new();
     if let Some(g) = &p.gravity {
         let s = p.gravity_reduction.unwrap_or_default();
         let out = data_path(dir, "gravity_reduced.csv");
-        reduce_gravity(
+        let readings = reduce_gravity(
             &GravityJob {
-                inputs: vec![at(dir, &g.file)?],
-                out: out.clone(),
+                inputs: g.files().map(|f| at(dir, f)).collect::<Result<_>>()?,
+                out,
                 settings: s,
                 terrain: match (&p.dem, g.terrain_outer_m) {
                     (Some(d), Some(outer)) => Some(TerrainInputs {
@@ -89,36 +71,27 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                     _ => None,
                 },
                 read: ReadOptions {
+                    columns: g.columns.clone(),
+                    units: g.units.clone(),
                     epsg: p.epsg,
-                    ..Default::default()
                 },
                 base: BaseTie::of(g.base_value_mgal, g.base_station.as_deref()),
-                bases: None,
-                meter_table: None,
+                bases: g.bases.as_deref().map(|b| at(dir, b)).transpose()?,
+                meter_table: g.meter_table.as_deref().map(|m| at(dir, m)).transpose()?,
                 max_drift_mgal_per_h: g.max_drift_mgal_per_h,
                 tide: g.tide,
                 gravimetric_factor: g.gravimetric_factor,
-                date: None,
+                date: g.date.clone(),
             },
             obs,
         )?;
-        let (t, [x, y, h, cba]) = numeric_columns(
-            &out,
-            ["x", "y", "height_m", "complete_bouguer_anomaly_mgal"],
-        )?;
-        let sc = t.column("station");
         let mut pts = Points::default();
-        for k in 0..t.n_rows() {
-            if let (Some(b), Some(c)) = (&g.base_station, sc) {
-                if &t.text(k, c) == b {
-                    continue;
-                }
-            }
-            if g.rejected_rows.contains(&k) {
+        for (k, r) in readings.iter().enumerate() {
+            if r.at_base || g.rejected_rows.contains(&k) {
                 continue;
             }
-            pts.xyz.push([x[k], y[k], h[k]]);
-            pts.value.push(cba[k]);
+            pts.xyz.push(r.xyz);
+            pts.value.push(r.complete_bouguer_anomaly_mgal);
             pts.uncertainty.push(g.uncertainty_floor_mgal);
         }
         write_points(
@@ -135,35 +108,34 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
     }
     if let Some(m) = &p.magnetic {
         let out = data_path(dir, "magnetic_reduced.csv");
-        reduce_magnetic(
+        let readings = reduce_magnetic(
             &MagneticJob {
-                input: at(dir, &m.file)?,
+                inputs: vec![at(dir, &m.file)?],
+                read: ReadOptions {
+                    epsg: p.epsg,
+                    ..Default::default()
+                },
                 date: m.date.clone(),
-                out: out.clone(),
+                out,
                 base: m.base_file.as_deref().map(|b| at(dir, b)).transpose()?,
                 datum_nt: None,
                 max_gap_s: 120.0,
-                epsg: p.epsg,
             },
             obs,
         )?;
-        let (t, [x, y, h, tmi]) = numeric_columns(&out, ["x", "y", "height_m", "tmi_anomaly_nt"])?;
-        let lc = t.column("line");
         let mut pts = Points::default();
-        let mut last: Option<(String, [f64; 2])> = None;
-        for k in 0..t.n_rows() {
-            let line = lc.map(|c| t.text(k, c)).unwrap_or_default();
+        let mut last: Option<(&str, [f64; 2])> = None;
+        for r in &readings {
+            let [x, y, _] = r.xyz;
             let keep = match &last {
-                Some((l, q)) if *l == line => {
-                    (x[k] - q[0]).hypot(y[k] - q[1]) >= 0.999 * m.thin_to_m
-                }
+                Some((l, q)) if *l == r.line => (x - q[0]).hypot(y - q[1]) >= 0.999 * m.thin_to_m,
                 _ => true,
             };
             if keep {
-                pts.xyz.push([x[k], y[k], h[k]]);
-                pts.value.push(tmi[k]);
+                pts.xyz.push(r.xyz);
+                pts.value.push(r.tmi_anomaly_nt);
                 pts.uncertainty.push(m.uncertainty_floor_nt);
-                last = Some((line, [x[k], y[k]]));
+                last = Some((&r.line, [x, y]));
             }
         }
         write_points(
@@ -177,7 +149,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
         )?;
         parts.push(format!(
             "{} magnetic readings reduced, {} kept",
-            t.n_rows(),
+            readings.len(),
             pts.value.len()
         ));
     }

@@ -5,13 +5,58 @@
 use super::widgets::{num, opt_num, warn};
 use egui::{RichText, Ui};
 use fieldstone_core::project::file::ProjectFile;
+use std::path::Path;
 
 /// The Corrections step keeps no choices of its own.
 #[derive(Default)]
 pub struct CorrectionsPanel;
 
+/// A table the project names (relative to its folder), typed or chosen; a
+/// file chosen outside the project is copied into its `inputs/` folder
+/// (a small table, copied at the click).
+fn table_field(ui: &mut Ui, dir: &Path, label: &str, v: &mut Option<String>) {
+    ui.horizontal(|ui| {
+        ui.label(label);
+        let mut t = v.clone().unwrap_or_default();
+        ui.add(
+            egui::TextEdit::singleline(&mut t)
+                .desired_width(150.0)
+                .hint_text("none"),
+        );
+        *v = (!t.trim().is_empty()).then(|| t.trim().to_string());
+        if ui.small_button("Browse…").clicked() {
+            if let Some(f) = rfd::FileDialog::new()
+                .add_filter("tables", &["csv", "txt"])
+                .pick_file()
+            {
+                match project_table(dir, &f) {
+                    Ok(rel) => *v = Some(rel),
+                    Err(e) => *v = Some(format!("(not copied: {e})")),
+                }
+            }
+        }
+    });
+}
+
+/// The project-relative path of table `f`, copied into `inputs/` when it
+/// lies outside the project.
+fn project_table(dir: &Path, f: &Path) -> Result<String, String> {
+    let canon = |p: &Path| p.canonicalize().unwrap_or_else(|_| p.to_path_buf());
+    if let Ok(rel) = canon(f).strip_prefix(canon(dir)) {
+        return Ok(rel.to_string_lossy().replace('\\', "/"));
+    }
+    let name = f
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .ok_or("the file has no name")?;
+    let rel = format!("inputs/{name}");
+    std::fs::create_dir_all(dir.join("inputs")).map_err(|e| e.to_string())?;
+    std::fs::copy(f, dir.join(&rel)).map_err(|e| e.to_string())?;
+    Ok(rel)
+}
+
 impl CorrectionsPanel {
-    pub fn form(&mut self, ui: &mut Ui, p: &mut ProjectFile) {
+    pub fn form(&mut self, ui: &mut Ui, dir: &Path, p: &mut ProjectFile) {
         let mut s = p.gravity_reduction.unwrap_or_default();
         ui.label(RichText::new("Gravity").strong());
         num(ui, "Reduction density", &mut s.density_g_cc, 0.01, "g/cm³");
@@ -34,6 +79,30 @@ impl CorrectionsPanel {
                 0.01,
                 "",
             );
+            ui.horizontal(|ui| {
+                ui.label("Date of times of day");
+                let mut d = g.date.clone().unwrap_or_default();
+                ui.add(
+                    egui::TextEdit::singleline(&mut d)
+                        .desired_width(90.0)
+                        .hint_text("YYYY-MM-DD"),
+                );
+                g.date = (!d.trim().is_empty()).then(|| d.trim().to_string());
+            });
+            if let Some(d) = &g.date {
+                if fieldstone_core::geodesy::igrf::decimal_year_of_date(d).is_err() {
+                    warn(ui, "the date is YYYY-MM-DD");
+                }
+            }
+            table_field(ui, dir, "Base stations table", &mut g.bases);
+            table_field(ui, dir, "Meter calibration table", &mut g.meter_table);
+            if g.meter_table.is_some() {
+                ui.label(
+                    RichText::new("the readings are in counter units")
+                        .small()
+                        .weak(),
+                );
+            }
             let mut base = g.base_station.clone().unwrap_or_default();
             ui.horizontal(|ui| {
                 ui.label("Base station id");

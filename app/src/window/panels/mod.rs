@@ -11,6 +11,7 @@ mod appraise_form;
 pub mod constraints;
 pub mod corrections;
 pub mod grids;
+pub mod import_form;
 mod layer_editor;
 mod maps;
 pub mod model_space;
@@ -28,11 +29,12 @@ use egui::{Color32, RichText, Ui};
 pub use constraints::{ConstraintArray, ConstraintsPanel};
 pub use corrections::CorrectionsPanel;
 pub use grids::{GridName, GridsPanel};
+pub use import_form::{ImportForm, Preview, SurveyKind};
 pub use model_space::ModelSpacePanel;
 pub use regional::RegionalPanel;
 pub use results::{ResultView, ResultsPanel};
 pub use runs::RunsPanel;
-pub use survey::{Preview, SurveyPanel, SurveyTable};
+pub use survey::{SurveyPanel, SurveyTable};
 
 /// The panels of the eight steps.
 #[derive(Default)]
@@ -59,13 +61,14 @@ impl Panels {
             widgets::warn(ui, format!("Read-only: {why}"));
         }
         let mut p = doc.project.clone();
+        let doc_dir = doc.dir.clone();
         ui.heading(ws.step.label());
         ui.add_space(4.0);
         let running = ws.busy();
         let mut run_request: Option<(Selection, bool)> = None;
         match ws.step {
             Step::Survey => self.survey.form(ws, ui, &mut p),
-            Step::Corrections => self.corrections.form(ui, &mut p),
+            Step::Corrections => self.corrections.form(ui, &doc_dir, &mut p),
             Step::Grids => self.grids.form(ws, ui, &mut p),
             Step::Regional => self.regional.form(ws, ui, &mut p),
             Step::ModelSpace => self.model_space.form(ws, ui, &mut p),

@@ -3,6 +3,7 @@
 //! line, where a reading can be rejected or restored. The Corrections step
 //! shows the same map and profile with the reduced anomalies.
 
+use super::import_form::ImportForm;
 use super::maps::{collars, extent, traces};
 use super::widgets::warn;
 use super::Workspace;
@@ -10,8 +11,7 @@ use crate::window::canvas::{self, Colouring, GridLayer, MapLayers};
 use crate::window::index::PointIndex;
 use egui::{Color32, RichText, Ui};
 use egui_plot::{Legend, Line, Plot, Points};
-use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile};
-use fieldstone_core::table::passthrough::read_passthrough;
+use fieldstone_core::project::file::ProjectFile;
 
 /// Which table the survey views show.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -26,9 +26,7 @@ pub enum SurveyTable {
 /// the column the stations are coloured by (a column of the survey file,
 /// so a name rather than a fixed choice).
 pub struct SurveyPanel {
-    pub import_path: String,
-    pub import_preview: Option<Preview>,
-    pub import_message: Option<String>,
+    pub import: ImportForm,
     pub line: Option<String>,
     pub colour_by: String,
 }
@@ -36,245 +34,16 @@ pub struct SurveyPanel {
 impl Default for SurveyPanel {
     fn default() -> Self {
         SurveyPanel {
-            import_path: String::new(),
-            import_preview: None,
-            import_message: None,
+            import: ImportForm::default(),
             line: None,
             colour_by: "gravity_mgal".into(),
         }
     }
 }
 
-/// Roles a column can take in the import form.
-pub const ROLES: [&str; 10] = [
-    "ignore",
-    "x",
-    "y",
-    "height_m",
-    "gravity_mgal",
-    "mag_nt",
-    "time",
-    "station",
-    "line",
-    "other",
-];
-
-/// The first rows of a file and the role chosen for each column.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Preview {
-    pub names: Vec<String>,
-    pub rows: Vec<Vec<String>>,
-    pub roles: Vec<usize>,
-    pub n_rows: usize,
-}
-
-fn guess_role(name: &str) -> usize {
-    let n = name.to_ascii_lowercase();
-    let pick = |r: &str| ROLES.iter().position(|x| *x == r).unwrap_or(0);
-    match n.as_str() {
-        "x" | "east" | "easting" | "e" => pick("x"),
-        "y" | "north" | "northing" | "n" => pick("y"),
-        "z" | "height" | "height_m" | "elev" | "elevation" => pick("height_m"),
-        "gravity" | "gravity_mgal" | "reading" | "grav" | "g" => pick("gravity_mgal"),
-        "mag" | "mag_nt" | "tmi" | "total_field" => pick("mag_nt"),
-        "time" | "datetime" | "date_time" => pick("time"),
-        "station" | "stn" | "id" => pick("station"),
-        "line" | "line_id" => pick("line"),
-        _ => pick("other"),
-    }
-}
-
-/// Reads the preview of a file for the import form.
-pub fn preview(path: &str) -> Result<Preview, String> {
-    let t = read_passthrough(std::path::Path::new(path), &[]).map_err(|e| e.to_string())?;
-    let rows = (0..t.n_rows().min(8))
-        .map(|r| (0..t.names.len()).map(|c| t.text(r, c)).collect())
-        .collect();
-    Ok(Preview {
-        roles: t.names.iter().map(|n| guess_role(n)).collect(),
-        names: t.names.clone(),
-        rows,
-        n_rows: t.n_rows(),
-    })
-}
-
-/// Copies the file into the project's inputs with the columns renamed to
-/// their roles, and makes it the gravity or magnetic survey.
-pub fn import_into(
-    project_dir: &std::path::Path,
-    p: &mut ProjectFile,
-    path: &str,
-    pv: &Preview,
-    gravity: bool,
-) -> Result<String, String> {
-    let role = |r: &str| pv.roles.iter().position(|x| ROLES[*x] == r);
-    let need: &[&str] = if gravity {
-        &["x", "y", "height_m", "gravity_mgal"]
-    } else {
-        &["x", "y", "height_m", "mag_nt"]
-    };
-    for n in need {
-        if role(n).is_none() {
-            return Err(format!(
-                "give a column the role {n} (needed for a {} survey)",
-                if gravity { "gravity" } else { "magnetic" }
-            ));
-        }
-    }
-    let t = read_passthrough(std::path::Path::new(path), &[]).map_err(|e| e.to_string())?;
-    let cols: Vec<(usize, &str)> = pv
-        .roles
-        .iter()
-        .enumerate()
-        .filter(|(_, r)| ROLES[**r] != "ignore" && ROLES[**r] != "other")
-        .map(|(c, r)| (c, ROLES[*r]))
-        .collect();
-    let mut seen = std::collections::BTreeSet::new();
-    for (_, r) in &cols {
-        if !seen.insert(*r) {
-            return Err(format!(
-                "two columns have the role {r}; give each role to one column"
-            ));
-        }
-    }
-    let mut text = format!(
-        "# imported from {path}\n{}\n",
-        cols.iter().map(|c| c.1).collect::<Vec<_>>().join(",")
-    );
-    for r in 0..t.n_rows() {
-        let v: Vec<String> = cols
-            .iter()
-            .map(|(c, _)| t.text(r, *c).replace(',', ";"))
-            .collect();
-        text.push_str(&v.join(","));
-        text.push('\n');
-    }
-    let stem = std::path::Path::new(path)
-        .file_stem()
-        .map(|s| s.to_string_lossy().to_string())
-        .unwrap_or_else(|| "survey".into());
-    let rel = format!("inputs/{}_imported.csv", crate::pipeline::safe_name(&stem));
-    let dest = project_dir.join(&rel);
-    if let Some(d) = dest.parent() {
-        std::fs::create_dir_all(d).map_err(|e| format!("{}: {e}", d.display()))?;
-    }
-    crate::pipeline::write_text(&dest, &text)?;
-    if gravity {
-        let old = p.gravity.clone();
-        p.gravity = Some(GravityInput {
-            file: rel.clone(),
-            base_station: old
-                .as_ref()
-                .and_then(|g| g.base_station.clone())
-                .filter(|_| role("station").is_some()),
-            base_value_mgal: old
-                .as_ref()
-                .and_then(|g| g.base_value_mgal)
-                .filter(|_| role("station").is_some()),
-            max_drift_mgal_per_h: 0.05,
-            tide: role("time").is_some(),
-            gravimetric_factor: 1.16,
-            terrain_outer_m: old.as_ref().and_then(|g| g.terrain_outer_m),
-            uncertainty_floor_mgal: 0.02,
-            uncertainty_percent: 0.0,
-            rejected_rows: vec![],
-        });
-    } else {
-        p.magnetic = Some(MagneticInput {
-            file: rel.clone(),
-            base_file: p.magnetic.as_ref().and_then(|m| m.base_file.clone()),
-            date: p
-                .magnetic
-                .as_ref()
-                .map(|m| m.date.clone())
-                .unwrap_or_else(|| "2026-01-01".into()),
-            thin_to_m: 25.0,
-            uncertainty_floor_nt: 1.0,
-            uncertainty_percent: 2.0,
-        });
-    }
-    Ok(format!("{} rows imported into {rel}", t.n_rows()))
-}
-
 impl SurveyPanel {
     pub fn form(&mut self, ws: &mut Workspace, ui: &mut Ui, p: &mut ProjectFile) {
-        ui.label("Import a survey table");
-        ui.horizontal(|ui| {
-            ui.label("File");
-            ui.add(
-                egui::TextEdit::singleline(&mut self.import_path)
-                    .desired_width(190.0)
-                    .hint_text("path to a CSV file"),
-            );
-            if ui.button("Browse…").clicked() {
-                if let Some(f) = rfd::FileDialog::new()
-                    .add_filter("tables", &["csv", "txt", "xyz"])
-                    .pick_file()
-                {
-                    self.import_path = f.display().to_string();
-                    self.import_preview = None;
-                }
-            }
-        });
-        if ui.button("Preview").clicked() {
-            match preview(&self.import_path) {
-                Ok(pv) => {
-                    self.import_preview = Some(pv);
-                    self.import_message = None;
-                }
-                Err(e) => self.import_message = Some(e),
-            }
-        }
-        if let Some(pv) = self.import_preview.as_mut() {
-            ui.label(format!(
-                "{} rows; choose the role of each column:",
-                pv.n_rows
-            ));
-            egui::Grid::new("roles").striped(true).show(ui, |ui| {
-                for (c, name) in pv.names.iter().enumerate() {
-                    ui.label(name);
-                    egui::ComboBox::from_id_salt(("role", c))
-                        .selected_text(ROLES[pv.roles[c]])
-                        .show_ui(ui, |ui| {
-                            for (k, r) in ROLES.iter().enumerate() {
-                                ui.selectable_value(&mut pv.roles[c], k, *r);
-                            }
-                        });
-                    ui.label(
-                        RichText::new(
-                            pv.rows
-                                .iter()
-                                .take(3)
-                                .map(|r| r.get(c).cloned().unwrap_or_default())
-                                .collect::<Vec<_>>()
-                                .join("  "),
-                        )
-                        .small()
-                        .weak(),
-                    );
-                    ui.end_row();
-                }
-            });
-            let pv = pv.clone();
-            let dir = ws.doc.as_ref().map(|d| d.dir.clone()).unwrap_or_default();
-            ui.horizontal(|ui| {
-                for (label, grav) in [
-                    ("Import as gravity survey", true),
-                    ("Import as magnetic survey", false),
-                ] {
-                    if ui.button(label).clicked() {
-                        self.import_message =
-                            Some(match import_into(&dir, p, &self.import_path, &pv, grav) {
-                                Ok(m) => m,
-                                Err(e) => format!("not imported: {e}"),
-                            });
-                    }
-                }
-            });
-        }
-        if let Some(m) = &self.import_message {
-            warn(ui, m.clone());
-        }
+        self.import.ui(ws, ui, p);
         ui.separator();
         ui.label("Coordinate reference");
         let mut epsg = p.epsg.unwrap_or(0);
@@ -292,7 +61,8 @@ impl SurveyPanel {
             }
         }
         if let Some(g) = &p.gravity {
-            ui.label(RichText::new(format!("gravity survey: {}", g.file)).small());
+            let files: Vec<&str> = g.files().map(String::as_str).collect();
+            ui.label(RichText::new(format!("gravity survey: {}", files.join(", "))).small());
         }
         if let Some(m) = &p.magnetic {
             ui.label(RichText::new(format!("magnetic survey: {}", m.file)).small());
@@ -355,6 +125,12 @@ impl SurveyPanel {
         };
         if self.line.is_none() {
             self.line = r.lines.iter().find(|l| l.as_str() != "0").cloned();
+        }
+        // A survey without the column chosen is coloured by its readings.
+        if r.column(&self.colour_by).is_none() {
+            if let Some(v) = &r.value_column {
+                self.colour_by = v.clone();
+            }
         }
         let col = if corrections {
             "complete_bouguer_anomaly_mgal".to_string()
