@@ -28,6 +28,11 @@ use std::path::PathBuf;
 /// reported standard errors before the a-posteriori factor.
 pub const BASE_READING_SD_MGAL: f64 = 0.01;
 
+/// Densities a Nettleton estimate may take and still be reported as one,
+/// g/cm³: from loose sediment to the densest common rocks (common
+/// practice: about 1.6–3.2 for near-surface rock).
+const NETTLETON_PLAUSIBLE_G_CC: (f64, f64) = (1.0, 3.5);
+
 /// The columns every gravity reduction adds, in order.
 pub const GRAVITY_COLUMNS: [&str; 9] = [
     "normal_gravity_mgal",
@@ -223,7 +228,8 @@ pub fn reduce_gravity(job: &GravityJob, obs: &dyn Observer) -> Result<Vec<Reduce
     let n = faa.len();
     // Nettleton's density over the whole survey, as a check on the density.
     match fieldstone_core::reduce::nettleton::nettleton(&faa, &per_density, &heights, (1.8, 3.2), 0.05) {
-        Ok(r) => obs.message(&format!("Nettleton density of least correlation with elevation over {} stations: {:.2} g/cm³ (a check, not a replacement for rock measurements)", r.n, r.density_g_cc)),
+        Ok(r) if (NETTLETON_PLAUSIBLE_G_CC.0..=NETTLETON_PLAUSIBLE_G_CC.1).contains(&r.density_g_cc) => obs.message(&format!("Nettleton density of least correlation with elevation over {} stations: {:.2} g/cm³ (a check, not a replacement for rock measurements)", r.n, r.density_g_cc)),
+        Ok(r) => obs.warning(&format!("Nettleton's method gives no usable density here: the anomalies of these {} stations correlate with elevation as no rock density would ({:.2} g/cm³ at zero correlation); a regional trend or too little relief dominates, so rely on rock measurements", r.n, r.density_g_cc)),
         Err(e) => obs.warning(&format!("Nettleton density not estimated: {e}")),
     }
     obs.message(&format!(
