@@ -118,8 +118,13 @@ fn bad_input_is_refused_with_file_and_place_and_no_output() {
     assert_refused(
         "missing-column",
         BODIES,
-        b"x,y,elev\n1,2,3\n",
-        &["stations.csv", "'z'"],
+        b"x,y,note\n1,2,3\n",
+        &[
+            "stations.csv",
+            "heights",
+            "'note' (keep)",
+            "--column height=HEADER",
+        ],
     );
     assert_refused(
         "not-a-number",
@@ -208,4 +213,58 @@ fn a_path_that_is_not_a_project_is_refused_before_any_window_opens() {
         e.contains("no-such-folder") && e.contains("not a Fieldstone project folder"),
         "{e}"
     );
+}
+
+/// Station files are read through the importer: a header in other words and
+/// feet, overridden roles and units, give the same field as x, y, z in metres.
+#[test]
+fn stations_with_their_own_header_are_read_through_the_importer() {
+    let bodies = r#"{"bodies": [{"prism": {"x": [-50, 50], "y": [-50, 50], "z": [-300, -100]}, "density_contrast_gcc": 0.5}]}"#;
+    let dir = scratch("own-header");
+    let (o, out) = run_forward(&dir, bodies, b"x,y,z\n0,0,0\n30,-20,12.192\n");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let metres = std::fs::read_to_string(out).unwrap();
+    let gz = |text: &str| -> Vec<f64> {
+        text.lines()
+            .skip(1)
+            .map(|l| l.rsplit(',').next().unwrap().parse().unwrap())
+            .collect()
+    };
+    // Feet by the header's name; the station id column is carried through.
+    let dir = scratch("own-header-ft");
+    let (o, out) = run_forward(
+        &dir,
+        bodies,
+        b"Stn,Easting,Northing,Elev_ft\nA,0,0,0\nB,30,-20,40\n",
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let feet = std::fs::read_to_string(out).unwrap();
+    assert!(
+        feet.starts_with("Stn,Easting,Northing,Elev_ft,gz_mgal\n"),
+        "{feet}"
+    );
+    // 40 ft = 12.192 m exactly (international foot).
+    let (a, b) = (gz(&metres), gz(&feet));
+    for (p, q) in a.iter().zip(&b) {
+        assert!((p - q).abs() < 1e-12, "{p} against {q}");
+    }
+    // A header the importer does not know, named with --column and --unit.
+    let dir = scratch("own-header-override");
+    std::fs::write(dir.join("bodies.json"), bodies).unwrap();
+    std::fs::write(dir.join("stations.csv"), "P,Q,R\n0,0,0\n30,-20,40\n").unwrap();
+    let o = bin()
+        .args(["forward", "--bodies"])
+        .arg(dir.join("bodies.json"))
+        .arg("--stations")
+        .arg(dir.join("stations.csv"))
+        .args(["--column", "x=P", "--column", "y=Q", "--column", "height=R"])
+        .args(["--unit", "R=ft", "--out"])
+        .arg(dir.join("o.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let c = gz(&std::fs::read_to_string(dir.join("o.csv")).unwrap());
+    for (p, q) in a.iter().zip(&c) {
+        assert!((p - q).abs() < 1e-12, "{p} against {q}");
+    }
 }

@@ -231,3 +231,156 @@ fn bad_grid_and_filter_requests_are_refused_with_reasons() {
     }
     assert!(!d.join("f.tif").exists());
 }
+
+/// Line data with its own header go through the importer: longitude and
+/// latitude are projected to the UTM zone of the survey centre (recorded in
+/// the GeoTIFF), the value's unit is read from its header, and a value
+/// column that does not exist is named with the columns found.
+#[test]
+fn grids_a_table_with_its_own_header_through_the_importer() {
+    let d = scratch("importer");
+    let mut s = String::from("Stn,Long,Lat,Elev (m),BA (mGal)\n");
+    for j in 0..15 {
+        for i in 0..15 {
+            let (lon, lat) = (-81.6 + 0.002 * i as f64, 48.75 + 0.002 * j as f64);
+            s.push_str(&format!(
+                "S{i}_{j},{lon},{lat},300,{}\n",
+                2.0 + 0.5 * i as f64
+            ));
+        }
+    }
+    std::fs::write(d.join("ba.csv"), s).unwrap();
+    let run = |value: &str, out: &str| {
+        bin()
+            .arg("grid")
+            .arg("--in")
+            .arg(d.join("ba.csv"))
+            .args(["--value", value, "--cell", "50", "--out"])
+            .arg(d.join(out))
+            .output()
+            .unwrap()
+    };
+    let o = run("BA (mGal)", "ba.tif");
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let g = read_geotiff(&d.join("ba.tif")).unwrap();
+    // 81.6° W lies in UTM zone 17 (84° W to 78° W); north: EPSG 32617.
+    assert_eq!(g.epsg, Some(32617));
+    // 81.6° W is 2.4° west of the zone's 81° W meridian: eastings of about
+    // 500 km − 2.4° × 73 km; the values stay within those gridded.
+    let x = g.x_of(0);
+    assert!((300_000.0..500_000.0).contains(&x), "{x}");
+    let mut inside = 0;
+    for j in 0..g.ny {
+        for i in 0..g.nx {
+            let v = g.get(i, j);
+            if v.is_finite() {
+                // (minimum curvature overshoots a little at the edges)
+                assert!((1.5..=9.5).contains(&v), "{v}");
+                inside += 1;
+            }
+        }
+    }
+    assert!(inside > 100, "{inside}");
+    let o = run("Bouguer", "none.tif");
+    let e = String::from_utf8_lossy(&o.stderr);
+    assert!(!o.status.success());
+    assert!(
+        e.contains("ba.csv") && e.contains("'Bouguer'") && e.contains("'Lat' (lat)"),
+        "{e}"
+    );
+    assert!(!d.join("none.tif").exists());
+}
+
+/// An ASEG-GDF2 `.dat` with its `.dfn` beside it goes through `inspect`,
+/// `grid` and `forward` like a delimited table: roles and units from the
+/// definition (UNIT=nT makes "TF" the magnetic reading), nulls as missing.
+#[test]
+fn aseg_gdf2_line_data_is_inspected_gridded_and_used_as_stations() {
+    let d = scratch("gdf");
+    std::fs::write(
+        d.join("mag.dfn"),
+        "DEFN   ST=RECD,RT=COMM;RT:A4;COMMENTS:A76\n\
+DEFN 1 ST=RECD,RT=;LINE:I6\n\
+DEFN 2 ST=RECD,RT=;EASTING:F10.1:UNIT=m\n\
+DEFN 3 ST=RECD,RT=;NORTHING:F11.1:UNIT=m\n\
+DEFN 4 ST=RECD,RT=;ELEV:F8.1:UNIT=m\n\
+DEFN 5 ST=RECD,RT=;TF:F10.2:UNIT=nT,NULL=-99999.99,NAME=total field\n\
+DEFN 6 ST=RECD,RT=;END DEFN\n",
+    )
+    .unwrap();
+    let mut dat = String::from("COMM invented lines for a test\n");
+    for l in 0..5 {
+        for k in 0..21 {
+            let (x, y) = (452_000.0 + 25.0 * k as f64, 5_401_000.0 + 100.0 * l as f64);
+            let tf = if (l, k) == (2, 7) {
+                -99999.99
+            } else {
+                54_000.0 + 0.01 * (x - 452_000.0)
+            };
+            dat.push_str(&format!(
+                "{:>6}{x:>10.1}{y:>11.1}{:>8.1}{tf:>10.2}\n",
+                10 * (l + 1),
+                120.0
+            ));
+        }
+    }
+    std::fs::write(d.join("mag.dat"), dat).unwrap();
+    let o = bin()
+        .arg("inspect")
+        .arg(d.join("mag.dat"))
+        .output()
+        .unwrap();
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(
+        text.contains("rows: 105") && text.contains("dummies: 1"),
+        "{text}"
+    );
+    let tf = text.lines().find(|l| l.contains(" TF ")).unwrap();
+    assert!(tf.contains("magnetic") && tf.contains("nT"), "{tf}");
+    let o = bin()
+        .arg("grid")
+        .arg("--in")
+        .arg(d.join("mag.dat"))
+        .args(["--value", "TF", "--cell", "25", "--epsg", "32617", "--out"])
+        .arg(d.join("tf.tif"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let g = read_geotiff(&d.join("tf.tif")).unwrap();
+    assert_eq!(g.epsg, Some(32617));
+    // A plane in x: the gridded values reproduce it, the null left out.
+    let (i, j) = (8, 8);
+    let want = 54_000.0 + 0.01 * (g.x_of(i) - 452_000.0);
+    assert!(
+        (g.get(i, j) - want).abs() < 1e-3,
+        "{} against {want}",
+        g.get(i, j)
+    );
+    // The same file as forward stations: its columns carried through.
+    std::fs::write(
+        d.join("b.json"),
+        r#"{"bodies": [{"prism": {"x": [452100, 452300], "y": [5401100, 5401300], "z": [-200, -100]}, "density_contrast_gcc": 0.3}]}"#,
+    )
+    .unwrap();
+    let o = bin()
+        .args(["forward", "--bodies"])
+        .arg(d.join("b.json"))
+        .arg("--stations")
+        .arg(d.join("mag.dat"))
+        .arg("--out")
+        .arg(d.join("fwd.csv"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let out = std::fs::read_to_string(d.join("fwd.csv")).unwrap();
+    assert!(
+        out.starts_with("LINE,EASTING,NORTHING,ELEV,TF,gz_mgal\n"),
+        "{out}"
+    );
+    assert_eq!(out.lines().count(), 106);
+    assert!(
+        out.contains(",-99999.99,"),
+        "the null is carried through as written"
+    );
+}

@@ -6,9 +6,11 @@
 
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::forward::bodies::parse_body_file;
+use fieldstone_core::grid::ascii::read_ascii_grid_bytes;
 use fieldstone_core::grid::geotiff::read_geotiff_bytes;
 use fieldstone_core::grid::xyz::read_xyz_bytes;
 use fieldstone_core::project::file::ProjectFile;
+use fieldstone_core::table::gdf::{parse_definition, read_gdf_bytes};
 use fieldstone_core::table::passthrough::parse_passthrough;
 use fieldstone_core::table::read::read_table_bytes;
 use fieldstone_core::table::TextOptions;
@@ -150,9 +152,37 @@ proptest! {
         if let Err(e) = parse_body_file(&b, Path::new("bodies.json")) {
             names_file(e.to_string(), "bodies.json")?;
         }
+        let b = apply(seed("ascii_grid/small.asc"), &ds);
+        match read_ascii_grid_bytes(&b, Path::new("dem.asc")) {
+            Err(e) => names_file(e.to_string(), "dem.asc")?,
+            Ok(g) => prop_assert_eq!(g.values.len(), g.nx * g.ny),
+        }
         let b = apply(seed("xyz_grid/small.xyz"), &ds);
         if let Err(e) = read_xyz_bytes(&b, Path::new("grid.xyz"), &TextOptions::default()) {
             names_file(e.to_string(), "grid.xyz")?;
+        }
+    }
+
+    #[test]
+    fn gdf_line_data(ds in prop::collection::vec(damage(), 1..6), raw in prop::collection::vec(any::<u8>(), 0..300)) {
+        let seed = seed("gdf/lines.gdf");
+        let cut = seed.windows(8).position(|w| w == b"END DEFN").unwrap() + 9;
+        let (dfn, dat) = seed.split_at(cut);
+        // Damage to the definition, then to the records under a good one.
+        match parse_definition(&apply(dfn.to_vec(), &ds), Path::new("lines.dfn")) {
+            Err(e) => names_file(e.to_string(), "lines.dfn")?,
+            Ok(def) => {
+                if let Err(e) = read_gdf_bytes(dat, Path::new("lines.dat"), &def, &TextOptions::default()) {
+                    names_file(e.to_string(), "lines.dat")?;
+                }
+            }
+        }
+        let def = parse_definition(dfn, Path::new("lines.dfn")).unwrap();
+        for b in [apply(dat.to_vec(), &ds), raw.clone()] {
+            match read_gdf_bytes(&b, Path::new("lines.dat"), &def, &TextOptions::default()) {
+                Err(e) => names_file(e.to_string(), "lines.dat")?,
+                Ok(t) => prop_assert!(t.columns.iter().all(|c| c.len() == t.lines.len())),
+            }
         }
     }
 }

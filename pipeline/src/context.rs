@@ -8,7 +8,7 @@ use fieldstone_core::constraint::region::Inputs;
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::drillhole::tables::{load_holes, DrillholeSpec};
 use fieldstone_core::drillhole::DipConvention;
-use fieldstone_core::grid::geotiff::read_geotiff;
+use fieldstone_core::grid::read::read_grid;
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::mesh::topo::{active_cells, ActiveCells};
 use fieldstone_core::mesh::TensorMesh;
@@ -78,14 +78,14 @@ pub fn load_model_context(dir: &Path, p: &ProjectFile) -> Result<ModelContext> {
     let dem = p
         .dem
         .as_deref()
-        .map(|f| -> Result<Grid2> { Ok(read_geotiff(&at(dir, f)?).map_err(|e| e.to_string())?) })
+        .map(|f| -> Result<Grid2> { Ok(read_grid(&at(dir, f)?).map_err(|e| e.to_string())?) })
         .transpose()?;
     let active = active_cells(&mesh, dem.as_ref(), false, true).map_err(|e| e.to_string())?;
     let mut inputs = Inputs::default();
     for s in &p.surfaces {
         inputs.surfaces.insert(
             s.name.clone(),
-            read_geotiff(&at(dir, &s.file)?).map_err(|e| e.to_string())?,
+            read_grid(&at(dir, &s.file)?).map_err(|e| e.to_string())?,
         );
     }
     for w in &p.wireframes {

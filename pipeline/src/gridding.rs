@@ -3,6 +3,7 @@
 //! distance and hull, GeoTIFF or CSV out).
 
 use crate::error::{Error, Result};
+use crate::reduction::survey_files::{spec_for_file, ReadOptions};
 use fieldstone_core::grid::biharmonic::biharmonic;
 use fieldstone_core::grid::blank::{blank_by_distance, blank_outside, convex_hull, suggest_cell};
 use fieldstone_core::grid::geotiff::write_geotiff;
@@ -10,10 +11,10 @@ use fieldstone_core::grid::mincurv::{min_curvature, MinCurvSettings};
 use fieldstone_core::grid::{Grid2, MAX_NODES};
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
 use fieldstone_core::progress::Observer;
+use fieldstone_core::survey::columns::{unit_hint, Role};
+use fieldstone_core::survey::import::import_survey;
 use fieldstone_core::survey::lines::{split_lines, SplitRule};
 use fieldstone_core::survey::qc::spacing_of;
-use fieldstone_core::table::read::read_table;
-use fieldstone_core::table::{ColumnData, TextOptions};
 use std::path::{Path, PathBuf};
 
 /// How the values are interpolated.
@@ -26,12 +27,14 @@ pub enum Method {
 /// One gridding job.
 #[derive(Debug, Clone, PartialEq)]
 pub struct GridJob {
-    /// Delimited text file with the data.
+    /// Line data: a delimited table or an ASEG-GDF2 `.dat`, read through
+    /// core's importer (coordinates from the guessed or given roles).
     pub input: PathBuf,
-    /// Columns of x (easting, metres), y (northing, metres) and the values.
-    pub x: String,
-    pub y: String,
+    /// The column of the values to grid (any numeric column).
     pub value: String,
+    /// Overrides of the importer's guesses (`x=EAST`, `height=ELEV_FT`),
+    /// units, and the projected reference of easting/northing.
+    pub read: ReadOptions,
     /// Cell size, metres (square cells).
     pub cell_m: f64,
     /// Output: .tif (Float32 GeoTIFF) or .csv (x,y,value, nodata rows omitted).
@@ -44,26 +47,69 @@ pub struct GridJob {
     /// Also blank nodes outside the convex hull of the data.
     pub hull: bool,
     pub method: Method,
-    /// EPSG code of x and y, written into the GeoTIFF.
-    pub epsg: Option<u32>,
-    /// Units of the values, recorded with the grid (e.g. mGal, nT).
+    /// Units of the values, recorded with the grid (e.g. mGal, nT); empty:
+    /// the unit the importer read.
     pub units: String,
 }
 
-fn column(t: &fieldstone_core::table::Table, name: &str) -> Result<Vec<f64>> {
-    let i = t.column_index(name).ok_or_else(|| {
-        format!(
-            "{}: no column '{name}' (found: {})",
-            t.file.display(),
-            t.names.join(", ")
-        )
-    })?;
-    match &t.columns[i] {
-        ColumnData::Number(v) => Ok(v.clone()),
-        ColumnData::Text(_) => {
-            Err(format!("{}: column '{name}' is text, not numbers", t.file.display()).into())
-        }
-    }
+/// The points of a gridding job, read through the importer.
+struct Points {
+    x: Vec<f64>,
+    y: Vec<f64>,
+    values: Vec<f64>,
+    /// Program unit of the values ("mGal", "nT", "m" or "").
+    unit: String,
+    /// EPSG code of x, y.
+    epsg: Option<u32>,
+}
+
+fn read_points(job: &GridJob) -> Result<Points> {
+    let spec = spec_for_file(&job.input, &job.read)?;
+    let survey = import_survey(&job.input, &spec).map_err(|e| Error::Input(e.to_string()))?;
+    let want = job.value.trim();
+    let i = spec
+        .columns
+        .iter()
+        .position(|c| c.name == want)
+        .or_else(|| {
+            spec.columns
+                .iter()
+                .position(|c| c.name.eq_ignore_ascii_case(want))
+        })
+        .ok_or_else(|| {
+            Error::Input(format!(
+                "{}: no column '{want}' to grid; the columns are: {}",
+                job.input.display(),
+                spec.describe_columns()
+            ))
+        })?;
+    let name = &spec.columns[i].name;
+    let (values, unit) = match spec.columns[i].role {
+        Role::Elevation => (survey.elevation_m.clone().unwrap_or_default(), "m"),
+        _ => match survey.channels.iter().find(|c| &c.name == name) {
+            // A carried column has no program unit; its header may name one.
+            Some(c) if c.unit.is_empty() => (
+                c.values.clone(),
+                unit_hint(name).map(|u| u.label()).unwrap_or(""),
+            ),
+            Some(c) => (c.values.clone(), c.unit),
+            None => {
+                return Err(Error::Input(format!(
+                    "{}: column '{name}' ({}) holds no numbers to grid",
+                    job.input.display(),
+                    spec.columns[i].role.key()
+                )))
+            }
+        },
+    };
+    let epsg = survey.crs.as_ref().map(|c| c.epsg()).or(job.read.epsg);
+    Ok(Points {
+        x: survey.x,
+        y: survey.y,
+        values,
+        unit: unit.to_string(),
+        epsg,
+    })
 }
 
 /// Grids the data of `job` and writes the grid; `obs` may cancel the
@@ -85,12 +131,13 @@ pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
         )
         .into());
     }
-    let t = read_table(&job.input, &TextOptions::default(), None).map_err(|e| e.to_string())?;
-    let (x, y, v) = (
-        column(&t, &job.x)?,
-        column(&t, &job.y)?,
-        column(&t, &job.value)?,
-    );
+    let Points {
+        x,
+        y,
+        values: v,
+        unit,
+        epsg,
+    } = read_points(job)?;
     let fin = |v: &[f64]| {
         v.iter()
             .copied()
@@ -123,8 +170,12 @@ pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
         "suggested cell: {suggested:.1} m ({why}); using {cell} m"
     ));
     let mut template = Grid2::new_empty(gx0, gy0, cell, cell, nx, ny).map_err(|e| e.to_string())?;
-    template.epsg = job.epsg;
-    template.units = job.units.clone();
+    template.epsg = epsg;
+    template.units = if job.units.is_empty() {
+        unit
+    } else {
+        job.units.clone()
+    };
     let gridded = match job.method {
         Method::MinCurvature => min_curvature(
             &x,

@@ -84,6 +84,15 @@ impl Events for CancelDuring {
                     .lock()
                     .unwrap()
                     .push((key.to_string(), *seconds));
+                // Between steps no step is running: a cancel that comes now
+                // is met by the next step before it starts.
+                *self.current.lock().unwrap() = None;
+            }
+            StepEvent::Cancelled { key } => {
+                let mut at = self.at_cancel.lock().unwrap();
+                if self.flag.load(Ordering::Relaxed) && at.is_none() {
+                    *at = Some((key.to_string(), state(&self.dir)));
+                }
             }
             StepEvent::Started { key } => {
                 let mut armed = self.armed_at.lock().unwrap();

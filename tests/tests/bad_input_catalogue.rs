@@ -522,6 +522,192 @@ fn xyz_grid_huge_coordinate() {
     names(&e, "grid.xyz", &["larger than"]);
 }
 
+// ------------------------------------------------- ASEG-GDF2 line data
+
+const GDF_DFN: &str = "DEFN   ST=RECD,RT=COMM;RT:A4;COMMENTS:A76\n\
+DEFN 1 ST=RECD,RT=;LINE:I6\n\
+DEFN 2 ST=RECD,RT=;EASTING:F10.1:UNIT=m\n\
+DEFN 3 ST=RECD,RT=;NORTHING:F11.1:UNIT=m\n\
+DEFN 4 ST=RECD,RT=;MAG:F10.2:UNIT=nT,NULL=-99999.99\n\
+DEFN 5 ST=RECD,RT=;END DEFN\n";
+const GDF_DAT: &str = "    10  452000.0  5401000.0  54001.25\n    10  452025.0  5401000.0  54001.50\n    10  452050.0  5401000.0 -99999.99\n";
+
+fn gdf_err(case: &str, dfn: &str, dat: &[u8]) -> String {
+    let d = scratch(&format!("gdf-{case}"));
+    put(&d, "lines.dfn", dfn.as_bytes());
+    let p = put(&d, "lines.dat", dat);
+    let r = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32617))
+        .map_err(|e| e.to_string())
+        .and_then(|spec| import_survey(&p, &spec).map_err(|e| e.to_string()));
+    r.expect_err("the reader accepted bad ASEG-GDF2 data")
+}
+
+#[test]
+fn gdf_good_files_load() {
+    let d = scratch("gdf-good");
+    put(&d, "lines.dfn", GDF_DFN.as_bytes());
+    let p = put(&d, "lines.dat", GDF_DAT.as_bytes());
+    let spec = ImportSpec::guess_for_file(&p, &TextOptions::default(), Some(32617)).unwrap();
+    let s = import_survey(&p, &spec).unwrap();
+    assert_eq!(s.n_rows(), 3);
+}
+
+#[test]
+fn gdf_definition_with_a_bad_format() {
+    let dfn = GDF_DFN.replace("F10.2", "Q10.2");
+    names(
+        &gdf_err("format", &dfn, GDF_DAT.as_bytes()),
+        "lines.dfn",
+        &["line 5", "'MAG'", "Q10.2"],
+    );
+}
+
+#[test]
+fn gdf_definition_that_is_not_one() {
+    names(
+        &gdf_err("notdfn", "station,x,y\n1,2,3\n", GDF_DAT.as_bytes()),
+        "lines.dfn",
+        &["line 1", "DEFN"],
+    );
+}
+
+#[test]
+fn gdf_definition_with_two_data_record_types() {
+    let dfn = GDF_DFN.replace("DEFN 4 ST=RECD,RT=;", "DEFN 4 ST=RECD,RT=MAGS;");
+    names(
+        &gdf_err("types", &dfn, GDF_DAT.as_bytes()),
+        "lines.dfn",
+        &["several data record types", "MAGS"],
+    );
+}
+
+#[test]
+fn gdf_field_defined_twice() {
+    let dfn = GDF_DFN.replace("NORTHING:F11.1", "EASTING:F11.1");
+    names(
+        &gdf_err("twice", &dfn, GDF_DAT.as_bytes()),
+        "lines.dfn",
+        &["'EASTING'", "twice", "lines 3 and 4"],
+    );
+}
+
+#[test]
+fn gdf_record_that_follows_neither_widths_nor_tokens() {
+    let dat = format!("{GDF_DAT}    10  452075.0  5401000.0\n");
+    names(
+        &gdf_err("short", GDF_DFN, dat.as_bytes()),
+        "lines.dat",
+        &["line 4", "lines.dfn"],
+    );
+}
+
+#[test]
+fn gdf_value_that_is_not_a_number() {
+    let dat = GDF_DAT.replace("54001.50", "54OO1.50");
+    names(
+        &gdf_err("nan", GDF_DFN, dat.as_bytes()),
+        "lines.dat",
+        &["line 2", "'MAG'", "54OO1.50"],
+    );
+}
+
+#[test]
+fn gdf_no_records() {
+    names(
+        &gdf_err("empty", GDF_DFN, b"COMM only a comment\n\n"),
+        "lines.dat",
+        &["no data rows"],
+    );
+}
+
+#[test]
+fn gdf_binary_garbage() {
+    names(
+        &gdf_err(
+            "binary",
+            GDF_DFN,
+            &[0x1f, 0x8b, 0x08, 0x00, 0xff, 0x10, b'\n'],
+        ),
+        "lines.dat",
+        &["binary", "line 1"],
+    );
+}
+
+// ------------------------------------------------------ ESRI ASCII grids
+
+const GOOD_ASC: &str = "ncols 3\nnrows 2\nxllcorner 451000\nyllcorner 5400000\ncellsize 50\nNODATA_value -9999\n1 2 3\n4 5 6\n";
+
+fn asc_err(case: &str, text: &str) -> String {
+    let d = scratch(&format!("asc-{case}"));
+    let p = put(&d, "dem.asc", text.as_bytes());
+    fieldstone_core::grid::read::read_grid(&p)
+        .expect_err("the reader accepted a bad ASCII grid")
+        .to_string()
+}
+
+#[test]
+fn ascii_grid_good_file_loads() {
+    let d = scratch("asc-good");
+    let p = put(&d, "dem.asc", GOOD_ASC.as_bytes());
+    let g = fieldstone_core::grid::read::read_grid(&p).unwrap();
+    assert_eq!((g.nx, g.ny), (3, 2));
+}
+
+#[test]
+fn ascii_grid_empty() {
+    names(&asc_err("empty", ""), "dem.asc", &["no ncols"]);
+}
+
+#[test]
+fn ascii_grid_too_few_values() {
+    let t = GOOD_ASC.replace("4 5 6\n", "4 5\n");
+    names(&asc_err("few", &t), "dem.asc", &["3 × 2 = 6", "holds 5"]);
+}
+
+#[test]
+fn ascii_grid_too_many_values() {
+    let t = format!("{GOOD_ASC}7\n");
+    names(&asc_err("many", &t), "dem.asc", &["holds 7"]);
+}
+
+#[test]
+fn ascii_grid_not_a_number() {
+    let t = GOOD_ASC.replace("4 5 6", "4 5,0 6");
+    names(&asc_err("nan", &t), "dem.asc", &["line 8", "'5,0'"]);
+}
+
+#[test]
+fn ascii_grid_unknown_keyword() {
+    let t = GOOD_ASC.replace("cellsize 50", "cell_size 50");
+    names(&asc_err("key", &t), "dem.asc", &["line 5", "'cell_size'"]);
+}
+
+#[test]
+fn ascii_grid_negative_cell() {
+    let t = GOOD_ASC.replace("cellsize 50", "cellsize -50");
+    names(&asc_err("neg", &t), "dem.asc", &["positive"]);
+}
+
+#[test]
+fn ascii_grid_huge_size() {
+    let t = GOOD_ASC.replace("ncols 3", "ncols 4000000000");
+    names(&asc_err("huge", &t), "dem.asc", &["nodes"]);
+}
+
+#[test]
+fn ascii_grid_binary_garbage() {
+    let d = scratch("asc-binary");
+    let p = put(
+        &d,
+        "dem.asc",
+        &[0x89, b'P', b'N', b'G', 0, 0, 0xff, b'\n', 1, 2],
+    );
+    let e = fieldstone_core::grid::read::read_grid(&p)
+        .unwrap_err()
+        .to_string();
+    names(&e, "dem.asc", &["line 1"]);
+}
+
 // -------------------------------------------------------------- wireframes
 
 const CUBE_OBJ: &str = "v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nv 0 0 1\nv 1 0 1\nv 1 1 1\nv 0 1 1\nf 1 3 2\nf 1 4 3\nf 5 6 7\nf 5 7 8\nf 1 2 6\nf 1 6 5\nf 2 3 7\nf 2 7 6\nf 3 4 8\nf 3 8 7\nf 4 1 5\nf 4 5 8\n";

@@ -1,9 +1,12 @@
 //! `fieldstone forward --bodies BODIES.json --stations STATIONS.csv --out OUT.csv`
 
+use super::reduce::ReadArgs;
 use clap::Args;
 use fieldstone_core::forward::bodies;
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
-use fieldstone_core::table::passthrough::{read_passthrough, write_with_columns};
+use fieldstone_core::survey::columns::Role;
+use fieldstone_core::table::passthrough::write_with_columns;
+use fieldstone_pipeline::reduction::survey_files::read_survey_file;
 use std::path::PathBuf;
 use std::time::Instant;
 
@@ -13,10 +16,19 @@ pub struct ForwardArgs {
     /// (SI) or magnetization (A/m), and an optional inducing field.
     #[arg(long, value_name = "BODIES.json")]
     pub bodies: PathBuf,
-    /// Station table (CSV) with a header naming x, y, z in metres (z is
-    /// elevation, up); other columns are copied to the output unchanged.
+    /// Station table: a delimited table whose header names the station
+    /// positions (x, y or easting, northing in metres, or lon, lat; z or
+    /// height, elevation up), or an ASEG-GDF2 .dat with its .dfn beside it;
+    /// roles and units are guessed from the header (`fieldstone inspect`
+    /// shows the guesses). Other columns are copied to the output unchanged.
     #[arg(long, value_name = "STATIONS.csv")]
     pub stations: PathBuf,
+    /// EPSG code of the x, y columns (longitude/latitude are projected to
+    /// the UTM zone of the station centre, which the body file must use).
+    #[arg(long)]
+    pub epsg: Option<u32>,
+    #[command(flatten)]
+    pub read: ReadArgs,
     /// Output table: the input columns plus gz_mgal and, with an inducing
     /// field, bx_nt, by_nt, bz_nt, tmi_nt (x east, y north, z up).
     #[arg(long, value_name = "OUT.csv")]
@@ -45,21 +57,19 @@ pub fn run(args: &ForwardArgs) -> super::CliResult {
     } else {
         &GRAVITY_COLUMNS
     };
-    let table = read_passthrough(&args.stations, names).map_err(|e| e.to_string())?;
-    let hint = "the station file needs x, y, z in metres (z is elevation, up)";
-    let cols = [
-        table.require("x", hint),
-        table.require("y", hint),
-        table.require("z", hint),
-    ];
-    let mut coords = Vec::with_capacity(3);
-    for c in cols {
-        let c = c.map_err(|e| e.to_string())?;
-        coords.push(table.numbers(c, true).map_err(|e| e.to_string())?);
+    let read = args.read.options(args.epsg)?;
+    let file = &read_survey_file(&args.stations, &read, names)?;
+    for w in &file.survey.warnings {
+        eprintln!("{}: {w}", args.stations.display());
     }
-    let positions: Vec<[f64; 3]> = (0..table.n_rows())
-        .map(|i| [coords[0][i], coords[1][i], coords[2][i]])
+    let heights = file.heights()?;
+    let s = &file.survey;
+    file.require_finite(&s.x, Role::Easting)?;
+    file.require_finite(&s.y, Role::Northing)?;
+    let positions: Vec<[f64; 3]> = (0..s.n_rows())
+        .map(|i| [s.x[i], s.y[i], heights[i]])
         .collect();
+    let table = &file.raw;
     let fields = model.evaluate(&positions).map_err(|e| {
         // Name the file line of the failing station rather than its index.
         let line = match &e {
@@ -72,7 +82,7 @@ pub fn run(args: &ForwardArgs) -> super::CliResult {
     })?;
     let result: Result<(), OutError> = write_atomically(&args.out, |w| {
         write_with_columns(
-            &table,
+            table,
             names,
             |i| {
                 let f = &fields[i];

@@ -1,9 +1,14 @@
-//! `fieldstone grid --in FILE --x COL --y COL --value COL --cell M --out OUT.tif|OUT.csv`
-
+//! `fieldstone grid --in FILE --value COL --cell M --out OUT.tif|OUT.csv`
+//! `[--x COL --y COL] [--column ROLE=HEADER ...] [--unit HEADER=UNIT ...] [--epsg CODE]`
 //!
-//! The options are translated into the pipeline's gridding job, which the
+//! The file is read through core's importer, like every command that reads
+//! line data: coordinates are taken from the guessed roles (easting and
+//! northing, or longitude and latitude projected to the UTM zone of the
+//! survey centre), `--x`/`--y` or `--column` override the guesses. The
+//! options are translated into the pipeline's gridding job, which the
 //! project's grid step runs too.
 
+use super::reduce::ReadArgs;
 use super::{CliResult, Stderr};
 use clap::{Args, ValueEnum};
 use fieldstone_pipeline::gridding::{grid_points, GridJob};
@@ -17,16 +22,17 @@ pub enum Method {
 
 #[derive(Debug, Args)]
 pub struct GridArgs {
-    /// Delimited text file with the data.
+    /// Line data: a delimited table whose header names its columns, or an
+    /// ASEG-GDF2 .dat with its .dfn beside it.
     #[arg(long = "in", value_name = "FILE")]
     pub input: PathBuf,
-    /// Column of x (easting, metres).
+    /// Column of x (easting, metres); short for --column x=COL.
     #[arg(long)]
-    pub x: String,
-    /// Column of y (northing, metres).
+    pub x: Option<String>,
+    /// Column of y (northing, metres); short for --column y=COL.
     #[arg(long)]
-    pub y: String,
-    /// Column of the values to grid.
+    pub y: Option<String>,
+    /// Column of the values to grid (any numeric column).
     #[arg(long)]
     pub value: String,
     /// Cell size, metres (square cells).
@@ -47,26 +53,41 @@ pub struct GridArgs {
     pub hull: bool,
     #[arg(long, value_enum, default_value = "min-curvature")]
     pub method: Method,
-    /// EPSG code of x and y, written into the GeoTIFF.
+    /// EPSG code of the x and y columns, written into the GeoTIFF
+    /// (longitude/latitude are projected to the UTM zone of the survey
+    /// centre without it).
     #[arg(long)]
     pub epsg: Option<u32>,
-    /// Units of the values, recorded with the grid (e.g. mGal, nT).
-    #[arg(long, default_value = "")]
-    pub units: String,
+    /// Units of the values, recorded with the grid (e.g. mGal, nT); by
+    /// default the unit read from the header.
+    #[arg(long = "units", default_value = "")]
+    pub value_units: String,
+    #[command(flatten)]
+    pub read: ReadArgs,
 }
 
 pub fn run(a: &GridArgs) -> CliResult {
-    grid_points(&job(a), &Stderr::default())?;
+    grid_points(&job(a)?, &Stderr::default())?;
     Ok(())
 }
 
 /// The gridding the options ask for.
-pub fn job(a: &GridArgs) -> GridJob {
-    GridJob {
+pub fn job(a: &GridArgs) -> Result<GridJob, fieldstone_pipeline::Error> {
+    let mut read = a.read.options(a.epsg)?;
+    // --x and --y come first so that a --column naming the same role wins.
+    let mut given = Vec::new();
+    if let Some(x) = &a.x {
+        given.push(("x".to_string(), x.clone()));
+    }
+    if let Some(y) = &a.y {
+        given.push(("y".to_string(), y.clone()));
+    }
+    given.append(&mut read.columns);
+    read.columns = given;
+    Ok(GridJob {
         input: a.input.clone(),
-        x: a.x.clone(),
-        y: a.y.clone(),
         value: a.value.clone(),
+        read,
         cell_m: a.cell,
         out: a.out.clone(),
         tension: a.tension,
@@ -76,7 +97,6 @@ pub fn job(a: &GridArgs) -> GridJob {
             Method::MinCurvature => fieldstone_pipeline::gridding::Method::MinCurvature,
             Method::Biharmonic => fieldstone_pipeline::gridding::Method::Biharmonic,
         },
-        epsg: a.epsg,
-        units: a.units.clone(),
-    }
+        units: a.value_units.clone(),
+    })
 }

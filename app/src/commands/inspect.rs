@@ -10,9 +10,9 @@
 
 use clap::Args;
 use fieldstone_core::survey::columns::{guess_column, Role};
-use fieldstone_core::survey::import::read_head;
-use fieldstone_core::table::read::read_table;
-use fieldstone_core::table::sniff::{parse_number, sniff};
+use fieldstone_core::survey::import::ImportSpec;
+use fieldstone_core::table::file::{read_table_file, sniff_file};
+use fieldstone_core::table::sniff::parse_number;
 use fieldstone_core::table::{ColumnData, Delimiter, TextOptions};
 use fieldstone_core::table::{ColumnKind, TableError};
 use std::collections::HashSet;
@@ -105,12 +105,14 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
     };
     // A column the first lines show as numbers is read again as text when a
     // value further down is not a number, and its stray values are shown.
-    let head = read_head(file).map_err(|e| e.to_string())?;
-    let sn = sniff(&head, file, &opts).map_err(|e| e.to_string())?;
+    let sn = sniff_file(file, &opts).map_err(|e| e.to_string())?;
+    // The importer's own guesses (first column of each role, units stated
+    // in a definition file), so what is shown is what an import reads.
+    let spec = ImportSpec::guess_for_file(file, &opts, None).map_err(|e| e.to_string())?;
     let mut kinds = sn.kinds.clone();
     let mut demoted = vec![false; kinds.len()];
     let t = loop {
-        match read_table(file, &opts, Some(&kinds)) {
+        match read_table_file(file, &opts, Some(&kinds)) {
             Err(TableError::NotNumber { column, .. }) => {
                 match sn.names.iter().position(|n| *n == column) {
                     Some(i) if kinds[i] == ColumnKind::Number => {
@@ -131,28 +133,46 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
     };
     let said = |given: bool| if given { "given" } else { "detected" };
     println!("file: {}", file.display());
-    println!(
-        "delimiter: {} ({})",
-        t.delimiter.name(),
-        said(delimiter.is_some())
-    );
-    println!(
-        "header: {} ({})",
-        if t.has_header { "yes" } else { "no" },
-        said(has_header.is_some())
-    );
+    match fieldstone_core::table::gdf::definition_beside(file) {
+        Some(dfn) => println!(
+            "format: ASEG-GDF2 records; names, units and nulls from {}",
+            dfn.display()
+        ),
+        None => {
+            println!(
+                "delimiter: {} ({})",
+                t.delimiter.name(),
+                said(delimiter.is_some())
+            );
+            println!(
+                "header: {} ({})",
+                if t.has_header { "yes" } else { "no" },
+                said(has_header.is_some())
+            );
+        }
+    }
     println!("rows: {}", t.n_rows());
     println!("dummies: {}", t.dummies.iter().sum::<usize>());
     println!();
+    let w = t
+        .names
+        .iter()
+        .map(|n| n.chars().count())
+        .max()
+        .unwrap_or(0)
+        .max(20);
     println!(
-        "{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {:>14} {:>14} {:>14}",
+        "{:>3}  {:<w$} {:<22} {:<14} {:<6} {:>8} {:>14} {:>14} {:>14}",
         "#", "column", "role", "unit", "kind", "dummies", "min", "mean", "max"
     );
     let mut line_count = None;
     let mut not_numbers = Vec::new();
     for (i, (name, col)) in t.names.iter().zip(&t.columns).enumerate() {
         let numeric = matches!(col, ColumnData::Number(_)) || demoted[i];
-        let g = guess_column(name, numeric);
+        let g = match spec.columns.get(i) {
+            Some(c) if &c.name == name => c.clone(),
+            _ => guess_column(name, numeric),
+        };
         let (kind, stats) = match col {
             ColumnData::Number(v) => {
                 let (mut n, mut s, mut lo, mut hi) =
@@ -206,7 +226,7 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
             line_count = Some((name.clone(), distinct.len()));
         }
         println!(
-            "{:>3}  {:<20} {:<22} {:<14} {:<6} {:>8} {}",
+            "{:>3}  {:<w$} {:<22} {:<14} {:<6} {:>8} {}",
             i + 1,
             name,
             g.role.label(),

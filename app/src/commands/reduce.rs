@@ -61,7 +61,8 @@ pub struct GravityArgs {
     /// Leave out the curvature (Bullard B) correction.
     #[arg(long)]
     pub no_curvature: bool,
-    /// Terrain model (GeoTIFF) for the terrain correction.
+    /// Terrain model for the terrain correction: GeoTIFF (.tif), ESRI ASCII
+    /// grid (.asc) or gridded XYZ text (.xyz).
     #[arg(long, value_name = "DEM.tif", requires = "terrain_outer_m")]
     pub dem: Option<PathBuf>,
     /// Outer radius of the terrain correction, metres.
@@ -129,7 +130,7 @@ pub struct ReadArgs {
 
 impl ReadArgs {
     /// The read options with the projected reference `epsg`.
-    fn options(&self, epsg: Option<u32>) -> Result<ReadOptions, fieldstone_pipeline::Error> {
+    pub fn options(&self, epsg: Option<u32>) -> Result<ReadOptions, fieldstone_pipeline::Error> {
         let pairs = |option: &str, v: &[String]| {
             v.iter()
                 .map(|t| split_pair(option, t))

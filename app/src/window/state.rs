@@ -7,6 +7,7 @@ use crate::pipeline::{
 };
 use fieldstone_core::constraint::build::ConstraintArrays;
 use fieldstone_core::grid::geotiff::read_geotiff;
+use fieldstone_core::grid::read::read_grid;
 use fieldstone_core::grid::Grid2;
 use fieldstone_core::invert::IterationRecord;
 use fieldstone_core::project::file::ProjectFile;
@@ -496,7 +497,7 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
         note(
             at(dir, d)
                 .map_err(String::from)
-                .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                .and_then(|f| read_grid(&f).map_err(|e| e.to_string()))
                 .map(|g| {
                     v.grids.insert("terrain".into(), Arc::new(g));
                 }),
@@ -506,7 +507,7 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
         note(
             at(dir, &s.file)
                 .map_err(String::from)
-                .and_then(|f| read_geotiff(&f).map_err(|e| e.to_string()))
+                .and_then(|f| read_grid(&f).map_err(|e| e.to_string()))
                 .map(|g| {
                     v.grids.insert(s.name.clone(), Arc::new(g));
                 }),

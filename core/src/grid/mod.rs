@@ -7,11 +7,13 @@
 //!   nodata tag) and write (Float32).
 //! * [`xyz`]: gridded XYZ text.
 
+pub mod ascii;
 pub mod biharmonic;
 pub mod blank;
 pub mod contour;
 pub mod geotiff;
 pub mod mincurv;
+pub mod read;
 pub mod shade;
 pub mod xyz;
 

@@ -349,6 +349,8 @@ pub fn guess_role(name: &str, numeric: bool) -> Role {
         "ellipsoidalheight",
         "ellht",
         "gpsheight",
+        "gpsht",
+        "ht",
         "gpsalt",
         "orthometricheight",
         "dem",

@@ -5,8 +5,7 @@
 use super::columns::{guess_column, ColumnSpec, Role, Unit};
 use super::lines::{lines_from_column, split_lines, SplitRule, SurveyLine};
 use crate::geodesy::crs::{Crs, CrsError};
-use crate::table::read::read_table;
-use crate::table::sniff::sniff;
+use crate::table::file::{read_table_file, sniff_file, stated_units};
 use crate::table::{ColumnData, ColumnKind, TableError, TextOptions};
 use crate::time::{parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat};
 use rayon::prelude::*;
@@ -144,14 +143,22 @@ impl ImportSpec {
         text: &TextOptions,
         epsg: Option<u32>,
     ) -> Result<ImportSpec, ImportError> {
-        let head = read_head(path)?;
-        let sn = sniff(&head, path, text)?;
+        let sn = sniff_file(path, text)?;
+        let stated = stated_units(path)?;
         let columns = sn
             .names
             .iter()
             .zip(&sn.kinds)
-            .map(|(n, k)| guess_column(n, *k == ColumnKind::Number))
+            .enumerate()
+            .map(|(i, (n, k))| {
+                let c = guess_column(n, *k == ColumnKind::Number);
+                match stated.get(i).and_then(|u| u.as_deref()) {
+                    Some(u) => with_stated_unit(c, u),
+                    None => c,
+                }
+            })
             .collect::<Vec<_>>();
+        let columns = first_of_each_role(columns);
         let text = TextOptions {
             delimiter: Some(sn.delimiter),
             has_header: Some(sn.has_header),
@@ -266,6 +273,57 @@ impl ImportSpec {
     }
 }
 
+/// A column whose definition states its unit (ASEG-GDF2 `UNIT=nT`): the
+/// unit is taken where it fits the guessed role, and a carried column in a
+/// gravity or magnetic unit becomes that reading.
+fn with_stated_unit(mut c: ColumnSpec, stated: &str) -> ColumnSpec {
+    let Some(u) = Unit::parse(&normalise_unit_word(stated)) else {
+        return c;
+    };
+    if c.role == Role::PassThrough {
+        match u {
+            Unit::Mgal | Unit::MicrometrePerSecond2 => c.role = Role::Gravity,
+            Unit::Nanotesla => c.role = Role::Magnetic,
+            _ => {}
+        }
+    }
+    if c.role.units().contains(&u) {
+        c.unit = u;
+    }
+    c
+}
+
+/// Unit words as definition files spell them, in the words [`Unit::parse`]
+/// knows (`METRES` → `m`, `degrees` → `deg`, `um/s^2` → `gu`).
+fn normalise_unit_word(w: &str) -> String {
+    let l = w.trim().to_ascii_lowercase();
+    match l.as_str() {
+        "metres" | "meters" | "metre" | "meter" | "mtrs" => "m".into(),
+        "feet" | "foot" => "ft".into(),
+        "degrees" | "degree" | "degs" | "dd" => "deg".into(),
+        "nanotesla" | "gamma" | "gammas" => "nt".into(),
+        "um/s^2" | "um/s2" | "µm/s²" | "µm/s^2" | "gravity units" => "gu".into(),
+        "milligal" | "milligals" | "mgals" => "mgal".into(),
+        _ => l,
+    }
+}
+
+/// Where several columns were guessed to have the same role (a reduced
+/// table holds the meter reading and the observed gravity), the first keeps
+/// it and the others are carried through; `--column` picks another.
+fn first_of_each_role(mut columns: Vec<ColumnSpec>) -> Vec<ColumnSpec> {
+    for i in 1..columns.len() {
+        let r = columns[i].role;
+        if !matches!(r, Role::PassThrough | Role::Ignore)
+            && columns[..i].iter().any(|c| c.role == r)
+        {
+            columns[i].role = Role::PassThrough;
+            columns[i].unit = Unit::None;
+        }
+    }
+    columns
+}
+
 /// Eastings of a UTM or MGA zone lie within a few hundred kilometres of the
 /// 500 km false easting (common practice: 166–834 km on the equator); a
 /// survey whose "eastings" are far outside 50–950 km while its "northings"
@@ -345,7 +403,7 @@ pub fn utm_for(geo: u32, lat: f64, lon: f64) -> Option<u32> {
 pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportError> {
     let file = path.to_path_buf();
     let head = read_head(path)?;
-    let sn = sniff(&head, path, &spec.text)?;
+    let sn = sniff_file(path, &spec.text)?;
     if sn.names.len() != spec.columns.len() {
         return Err(ImportError::ColumnCount {
             file,
@@ -435,7 +493,7 @@ pub fn import_survey(path: &Path, spec: &ImportSpec) -> Result<Survey, ImportErr
     // numbers may hold a label further down (a base "B1" among numbered
     // stations): such a column is read again as text.
     let table = loop {
-        match read_table(path, &spec.text, Some(&kinds)) {
+        match read_table_file(path, &spec.text, Some(&kinds)) {
             Err(TableError::NotNumber { column, .. })
                 if spec.columns.iter().zip(&kinds).any(|(c, k)| {
                     c.name == column

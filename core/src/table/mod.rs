@@ -13,6 +13,8 @@
 //! fields may be quoted with `"` (a doubled `""` inside is a quote); LF and
 //! CRLF endings, a UTF-8 byte-order mark and Windows-1252 text are accepted.
 
+pub mod file;
+pub mod gdf;
 pub mod passthrough;
 pub mod read;
 pub mod sniff;
@@ -122,6 +124,19 @@ pub enum TableError {
     Memory {
         file: PathBuf,
         source: crate::memory::MemoryError,
+    },
+    #[error("{file}: line {line}: {message}")]
+    Definition {
+        file: PathBuf,
+        line: u64,
+        message: String,
+    },
+    #[error("{file}: line {line}: {message} (definition: {definition})")]
+    Record {
+        file: PathBuf,
+        line: u64,
+        message: String,
+        definition: PathBuf,
     },
     #[error("{file}: {given} column kinds given for {found} columns")]
     KindCount {

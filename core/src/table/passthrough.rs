@@ -63,6 +63,8 @@ pub enum PassThroughError {
         column: String,
         text: String,
     },
+    #[error(transparent)]
+    Table(#[from] super::TableError),
     #[error("{file}: line {line}: {message}")]
     Csv {
         file: PathBuf,
@@ -106,11 +108,37 @@ pub fn read_passthrough(
     path: &Path,
     output_columns: &[&str],
 ) -> Result<PassThroughTable, PassThroughError> {
+    if let Some(t) = read_gdf_passthrough_checked(path, output_columns)? {
+        return Ok(t);
+    }
     let bytes = std::fs::read(path).map_err(|source| PassThroughError::Read {
         file: path.to_path_buf(),
         source,
     })?;
     parse_passthrough(&bytes, path, output_columns)
+}
+
+/// An ASEG-GDF2 `.dat` with its `.dfn` beside it, read with every value's
+/// text; None for any other file.
+fn read_gdf_passthrough_checked(
+    path: &Path,
+    output_columns: &[&str],
+) -> Result<Option<PassThroughTable>, PassThroughError> {
+    let Some(def) = super::file::gdf_definition(path)? else {
+        return Ok(None);
+    };
+    let t = super::gdf::read_gdf_passthrough(path, &def)?;
+    if let Some(n) = t
+        .names
+        .iter()
+        .find(|n| output_columns.iter().any(|o| o.eq_ignore_ascii_case(n)))
+    {
+        return Err(PassThroughError::OutputNameTaken {
+            file: def.file.clone(),
+            name: n.clone(),
+        });
+    }
+    Ok(Some(t))
 }
 
 /// Parses table bytes; `file` is used in messages.

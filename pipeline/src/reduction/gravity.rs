@@ -8,7 +8,7 @@ use super::survey_files::{read_survey_files, write_survey, ReadOptions, SurveyFi
 use super::table::guard_inputs;
 use crate::error::{Error, Result};
 use fieldstone_core::geodesy::crs::Crs;
-use fieldstone_core::grid::geotiff::read_geotiff;
+use fieldstone_core::grid::read::read_grid;
 use fieldstone_core::progress::Observer;
 use fieldstone_core::reduce::drift::{reduce_loops, DriftError};
 use fieldstone_core::reduce::gravity::{reduce_station, GravitySettings};
@@ -486,11 +486,11 @@ fn terrain_of(
     density: f64,
     obs: &dyn Observer,
 ) -> Result<Vec<f64>> {
-    let dem = read_geotiff(&ti.dem).map_err(|e| e.to_string())?;
+    let dem = read_grid(&ti.dem).map_err(|e| e.to_string())?;
     let far = ti
         .far_dem
         .as_ref()
-        .map(|p| read_geotiff(p))
+        .map(|p| read_grid(p))
         .transpose()
         .map_err(|e| e.to_string())?;
     let s = &f.survey;

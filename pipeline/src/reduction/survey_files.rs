@@ -65,10 +65,14 @@ pub fn read_survey_files(
     }
     let mut names = output_columns.to_vec();
     names.push(SOURCE_COLUMN);
-    paths.iter().map(|p| read_one(p, opts, &names)).collect()
+    paths
+        .iter()
+        .map(|p| read_survey_file(p, opts, &names))
+        .collect()
 }
 
-fn read_one(path: &Path, opts: &ReadOptions, output_columns: &[&str]) -> Result<SurveyFile> {
+/// The importer's guesses for `path` with the overrides of `opts` applied.
+pub fn spec_for_file(path: &Path, opts: &ReadOptions) -> Result<ImportSpec> {
     let at = |e: String| Error::Input(format!("{}: {e}", path.display()));
     let mut spec = ImportSpec::guess_for_file(path, &TextOptions::default(), opts.epsg)
         .map_err(|e| Error::Input(e.to_string()))?;
@@ -84,6 +88,17 @@ fn read_one(path: &Path, opts: &ReadOptions, output_columns: &[&str]) -> Result<
     for (header, unit) in &opts.units {
         spec.set_unit(header, unit).map_err(at)?;
     }
+    Ok(spec)
+}
+
+/// Reads one file; `output_columns` are the names the output adds (an input
+/// column of the same name is refused).
+pub fn read_survey_file(
+    path: &Path,
+    opts: &ReadOptions,
+    output_columns: &[&str],
+) -> Result<SurveyFile> {
+    let spec = spec_for_file(path, opts)?;
     let survey = import_survey(path, &spec).map_err(|e| Error::Input(e.to_string()))?;
     let raw = read_passthrough(path, output_columns).map_err(|e| Error::Input(e.to_string()))?;
     if raw.lines != survey.file_lines {

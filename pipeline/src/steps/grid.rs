@@ -5,6 +5,7 @@ use super::{kinds, Stage, StepJob};
 use crate::error::Result;
 use crate::gridding::{grid_points, GridJob, Method};
 use crate::paths::data_path;
+use crate::reduction::ReadOptions;
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
 use fieldstone_core::project::provenance::hash_json;
@@ -45,16 +46,18 @@ fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
         grid_points(
             &GridJob {
                 input: data_path(dir, file),
-                x: "x".into(),
-                y: "y".into(),
                 value: col.into(),
+                read: ReadOptions {
+                    columns: vec![("x".into(), "x".into()), ("y".into(), "y".into())],
+                    units: Vec::new(),
+                    epsg: p.epsg,
+                },
                 cell_m: gs.cell_m,
                 out: out.clone(),
                 tension: gs.tension,
                 blank_m: None,
                 hull: false,
                 method: Method::MinCurvature,
-                epsg: p.epsg,
                 units: units.into(),
             },
             obs,

@@ -10,7 +10,7 @@ use crate::paths::{at, data_path};
 use crate::reduction::survey_files::{read_survey_files, ReadOptions};
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::drillhole::tables::load_holes;
-use fieldstone_core::grid::geotiff::read_geotiff;
+use fieldstone_core::grid::read::read_grid;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
 use fieldstone_core::project::provenance::{hash_bytes, hash_json};
 use fieldstone_core::survey::columns::Role;
@@ -111,7 +111,7 @@ fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
         parts.push(format!("{n} magnetic readings"));
     }
     if let Some(d) = &p.dem {
-        let g = read_geotiff(&at(dir, d)?).map_err(|e| e.to_string())?;
+        let g = read_grid(&at(dir, d)?).map_err(|e| e.to_string())?;
         if let (Some(a), Some(b)) = (g.epsg, p.epsg) {
             if a != b {
                 return Err(format!(
@@ -148,7 +148,7 @@ fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
         parts.push(format!("wireframe {} closed", w.name));
     }
     for s in &p.surfaces {
-        read_geotiff(&at(dir, &s.file)?).map_err(|e| e.to_string())?;
+        read_grid(&at(dir, &s.file)?).map_err(|e| e.to_string())?;
     }
     write_text(
         &data_path(dir, "import_report.json"),

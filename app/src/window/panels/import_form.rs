@@ -11,8 +11,8 @@ use crate::pipeline::reduction::survey_files::{read_survey_files, ReadOptions};
 use egui::{RichText, Ui};
 use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile};
 use fieldstone_core::survey::columns::{time_format_hint, ColumnSpec, Role};
-use fieldstone_core::survey::import::{read_head, ImportSpec};
-use fieldstone_core::table::sniff::sniff;
+use fieldstone_core::survey::import::ImportSpec;
+use fieldstone_core::table::file::sniff_file;
 use fieldstone_core::table::TextOptions;
 use std::path::{Path, PathBuf};
 
@@ -74,8 +74,7 @@ impl Preview {
 pub fn preview(path: &Path, epsg: Option<u32>) -> Result<Preview, String> {
     let spec = ImportSpec::guess_for_file(path, &TextOptions::default(), epsg)
         .map_err(|e| e.to_string())?;
-    let head = read_head(path).map_err(|e| e.to_string())?;
-    let sn = sniff(&head, path, &TextOptions::default()).map_err(|e| e.to_string())?;
+    let sn = sniff_file(path, &TextOptions::default()).map_err(|e| e.to_string())?;
     Ok(Preview {
         guessed: spec.columns.clone(),
         spec,
