@@ -281,6 +281,39 @@ fn grids_a_table_with_its_own_header_through_the_importer() {
         }
     }
     assert!(inside > 100, "{inside}");
+    // Blanked outside a survey outline given in longitude/latitude: the
+    // nodes kept all lie inside it.
+    std::fs::write(
+        d.join("area.geojson"),
+        r#"{"type": "Polygon", "coordinates": [[[-81.6, 48.75], [-81.58, 48.75], [-81.58, 48.77], [-81.6, 48.77], [-81.6, 48.75]]]}"#,
+    )
+    .unwrap();
+    let o = bin()
+        .arg("grid")
+        .arg("--in")
+        .arg(d.join("ba.csv"))
+        .args(["--value", "BA (mGal)", "--cell", "50", "--outline"])
+        .arg(d.join("area.geojson"))
+        .arg("--out")
+        .arg(d.join("cut.tif"))
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let cut = read_geotiff(&d.join("cut.tif")).unwrap();
+    let utm = fieldstone_core::geodesy::crs::Crs::from_epsg(32617).unwrap();
+    let (x1, _) = utm.project(48.76, -81.58).unwrap();
+    let (kept, total) = (
+        cut.values.iter().filter(|v| v.is_finite()).count(),
+        g.values.iter().filter(|v| v.is_finite()).count(),
+    );
+    assert!(kept > 20 && kept < total, "{kept} of {total}");
+    for j in 0..cut.ny {
+        for i in 0..cut.nx {
+            if cut.get(i, j).is_finite() {
+                assert!(cut.x_of(i) <= x1 + 60.0, "node {i},{j} east of the outline");
+            }
+        }
+    }
     let o = run("Bouguer", "none.tif");
     let e = String::from_utf8_lossy(&o.stderr);
     assert!(!o.status.success());

@@ -512,3 +512,58 @@ fn idle_frames_derive_nothing_and_one_edit_derives_once() {
     assert_eq!(after.1, before.1 + 1, "constraint builds after one edit");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Outlines from a GeoJSON file in longitude/latitude become constraint
+/// layers in the project's reference (the file is read in a background job;
+/// the choose-a-file dialog is the only part not driven here).
+#[test]
+fn outlines_from_a_file_become_constraint_layers() {
+    let dir = demo("outlines");
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    step(&mut h, "Constraints");
+    let before = h.state().ws.doc.as_ref().unwrap().project.scenarios[0]
+        .layers
+        .len();
+    let f = dir.join("areas.geojson");
+    std::fs::write(
+        &f,
+        r#"{"type": "FeatureCollection", "features": [{"type": "Feature", "properties": {"name": "lease"},
+            "geometry": {"type": "Polygon", "coordinates": [[[-81.6, 48.76], [-81.59, 48.76], [-81.59, 48.77], [-81.6, 48.77], [-81.6, 48.76]],
+                                                            [[-81.597, 48.763], [-81.597, 48.767], [-81.593, 48.767], [-81.593, 48.763], [-81.597, 48.763]]]}}]}"#,
+    )
+    .unwrap();
+    let ctx = h.ctx.clone();
+    let epsg = h.state().ws.doc.as_ref().unwrap().project.epsg;
+    {
+        let st = h.state_mut();
+        st.panels
+            .constraints
+            .start_reading(&mut st.ws, &ctx, f.clone(), epsg);
+    }
+    let t0 = Instant::now();
+    while h.state().panels.constraints.outlines.is_some() && t0.elapsed() < Duration::from_secs(30)
+    {
+        std::thread::sleep(Duration::from_millis(20));
+        h.step();
+    }
+    h.run_steps(3);
+    let layers = &h.state().ws.doc.as_ref().unwrap().project.scenarios[0].layers;
+    assert_eq!(layers.len(), before + 1);
+    let l = layers.last().unwrap();
+    assert_eq!(l.name, "lease");
+    match &l.region {
+        Region::Outline { parts, source, .. } => {
+            assert_eq!(parts.len(), 1);
+            assert_eq!(parts[0].holes.len(), 1);
+            assert!(source.contains("areas.geojson"), "{source}");
+            // Projected: eastings of a UTM zone, not degrees.
+            assert!(
+                parts[0].outer.iter().all(|p| p[0] > 100_000.0),
+                "{:?}",
+                parts[0].outer
+            );
+        }
+        other => panic!("{other:?}"),
+    }
+}

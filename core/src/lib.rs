@@ -16,6 +16,7 @@ pub mod memory;
 pub mod mesh;
 pub mod numeric;
 pub mod operator;
+pub mod outline;
 pub mod physics;
 pub mod progress;
 pub mod project;

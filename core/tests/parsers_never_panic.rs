@@ -9,6 +9,8 @@ use fieldstone_core::forward::bodies::parse_body_file;
 use fieldstone_core::grid::ascii::read_ascii_grid_bytes;
 use fieldstone_core::grid::geotiff::read_geotiff_bytes;
 use fieldstone_core::grid::xyz::read_xyz_bytes;
+use fieldstone_core::outline::geojson::parse_geojson;
+use fieldstone_core::outline::shapefile::{dbf_names, parse_shp};
 use fieldstone_core::project::file::ProjectFile;
 use fieldstone_core::table::gdf::{parse_definition, read_gdf_bytes};
 use fieldstone_core::table::passthrough::parse_passthrough;
@@ -182,6 +184,24 @@ proptest! {
             match read_gdf_bytes(&b, Path::new("lines.dat"), &def, &TextOptions::default()) {
                 Err(e) => names_file(e.to_string(), "lines.dat")?,
                 Ok(t) => prop_assert!(t.columns.iter().all(|c| c.len() == t.lines.len())),
+            }
+        }
+    }
+
+    #[test]
+    fn outlines(ds in prop::collection::vec(damage(), 1..6), raw in prop::collection::vec(any::<u8>(), 0..300)) {
+        for b in [apply(seed("outline/areas.geojson"), &ds), raw.clone()] {
+            if let Err(e) = parse_geojson(&b, Path::new("areas.geojson")) {
+                names_file(e.to_string(), "areas.geojson")?;
+            }
+        }
+        for b in [apply(seed("outline/units.shp"), &ds), raw.clone()] {
+            match parse_shp(&b, Path::new("units.shp"), None) {
+                Err(e) => names_file(e.to_string(), "units.shp")?,
+                Ok(f) => prop_assert!(f.outlines.iter().all(|o| !o.parts.is_empty())),
+            }
+            if let Err(e) = dbf_names(&b, Path::new("units.dbf")) {
+                names_file(e.to_string(), "units.dbf")?;
             }
         }
     }

@@ -127,10 +127,18 @@ pub fn map_options(
                 .filter(|l| l.enabled)
                 .filter_map(|l| match &l.region {
                     fieldstone_core::constraint::region::Region::Polygon { vertices, .. } => {
-                        Some((l.name.clone(), vertices.clone()))
+                        Some(vec![(l.name.clone(), vertices.clone())])
                     }
+                    fieldstone_core::constraint::region::Region::Outline { parts, .. } => Some(
+                        parts
+                            .iter()
+                            .flat_map(|q| std::iter::once(&q.outer).chain(&q.holes))
+                            .map(|r| (l.name.clone(), r.clone()))
+                            .collect(),
+                    ),
                     _ => None,
                 })
+                .flatten()
                 .collect()
         })
         .unwrap_or_default();

@@ -10,6 +10,7 @@ use fieldstone_core::grid::geotiff::write_geotiff;
 use fieldstone_core::grid::mincurv::{min_curvature, MinCurvSettings};
 use fieldstone_core::grid::{Grid2, MAX_NODES};
 use fieldstone_core::io::atomic::{write_atomically, WriteError};
+use fieldstone_core::outline::read_outlines;
 use fieldstone_core::progress::Observer;
 use fieldstone_core::survey::columns::{unit_hint, Role};
 use fieldstone_core::survey::import::import_survey;
@@ -46,6 +47,9 @@ pub struct GridJob {
     pub blank_m: Option<f64>,
     /// Also blank nodes outside the convex hull of the data.
     pub hull: bool,
+    /// Also blank nodes outside the survey outline(s) of this GeoJSON or
+    /// shapefile (holes blanked too).
+    pub outline: Option<PathBuf>,
     pub method: Method,
     /// Units of the values, recorded with the grid (e.g. mGal, nT); empty:
     /// the unit the importer read.
@@ -207,6 +211,23 @@ pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
     blank_by_distance(&mut g, &x, &y, blank);
     if job.hull {
         blank_outside(&mut g, &convex_hull(&x, &y));
+    }
+    if let Some(f) = &job.outline {
+        let (outlines, warnings) = read_outlines(f)
+            .and_then(|o| o.to_project(epsg))
+            .map_err(|e| Error::Input(e.to_string()))?;
+        for w in warnings {
+            obs.warning(&w);
+        }
+        let parts: Vec<_> = outlines.iter().flat_map(|o| &o.parts).collect();
+        for j in 0..g.ny {
+            for i in 0..g.nx {
+                let (px, py) = (g.x_of(i), g.y_of(j));
+                if !parts.iter().any(|q| q.contains(px, py)) {
+                    g.values[i + g.nx * j] = f64::NAN;
+                }
+            }
+        }
     }
     g.note = format!(
         "{:?} grid of '{}' from {} (cell {cell} m, tension {}, blank {blank} m)",

@@ -708,6 +708,171 @@ fn ascii_grid_binary_garbage() {
     names(&e, "dem.asc", &["line 1"]);
 }
 
+// ------------------------------------------------ outlines (GeoJSON, shp)
+
+fn outline_err(case: &str, name: &str, bytes: &[u8]) -> String {
+    let d = scratch(&format!("outline-{case}"));
+    let p = put(&d, name, bytes);
+    fieldstone_core::outline::read_outlines(&p)
+        .expect_err("the reader accepted a bad outline file")
+        .to_string()
+}
+
+#[test]
+fn geojson_not_json() {
+    names(
+        &outline_err(
+            "notjson",
+            "a.geojson",
+            b"{\"type\": \"Polygon\",\n \"coordinates\": [[[0,0],[1,0]]\n",
+        ),
+        "a.geojson",
+        &["line 3", "not JSON"],
+    );
+}
+
+#[test]
+fn geojson_empty() {
+    names(
+        &outline_err("empty", "a.geojson", b""),
+        "a.geojson",
+        &["not JSON"],
+    );
+}
+
+#[test]
+fn geojson_ring_of_two_vertices() {
+    names(
+        &outline_err(
+            "short",
+            "a.geojson",
+            br#"{"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [[[0,0],[1,0],[0,0]]]}}"#,
+        ),
+        "a.geojson",
+        &["feature", "coordinates: [0]", "three distinct vertices"],
+    );
+}
+
+#[test]
+fn geojson_a_line_among_outlines() {
+    names(
+        &outline_err(
+            "line",
+            "a.geojson",
+            br#"{"type": "FeatureCollection", "features": [{"type": "Feature", "geometry": {"type": "Polygon", "coordinates": [[[0,0],[1,0],[1,1]]]}}, {"type": "Feature", "geometry": {"type": "LineString", "coordinates": [[0,0],[1,1]]}}]}"#,
+        ),
+        "a.geojson",
+        &["features[1]", "LineString"],
+    );
+}
+
+#[test]
+fn geojson_position_that_is_not_a_number() {
+    names(
+        &outline_err(
+            "nan",
+            "a.geojson",
+            br#"{"type": "Polygon", "coordinates": [[[0,0],[1,"east"],[1,1]]]}"#,
+        ),
+        "a.geojson",
+        &["[0][1]", "not a position"],
+    );
+}
+
+#[test]
+fn geojson_unknown_crs_name() {
+    names(
+        &outline_err(
+            "crs",
+            "a.geojson",
+            br#"{"type": "Polygon", "crs": {"type": "name", "properties": {"name": "local grid"}}, "coordinates": [[[0,0],[1,0],[1,1]]]}"#,
+        ),
+        "a.geojson",
+        &["local grid", "EPSG"],
+    );
+}
+
+fn good_shp() -> Vec<u8> {
+    std::fs::read(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/../fuzz/corpus/outline/units.shp"
+    ))
+    .unwrap()
+}
+
+#[test]
+fn shapefile_good_file_loads() {
+    let d = scratch("shp-good");
+    let p = put(&d, "units.shp", &good_shp());
+    let f = fieldstone_core::outline::read_outlines(&p).unwrap();
+    assert_eq!(f.outlines.len(), 2);
+}
+
+#[test]
+fn shapefile_not_a_shapefile() {
+    names(
+        &outline_err("notshp", "units.shp", b"station,x,y\n1,2,3\n"),
+        "units.shp",
+        &["9994"],
+    );
+}
+
+#[test]
+fn shapefile_truncated() {
+    let b = good_shp();
+    names(
+        &outline_err("cut", "units.shp", &b[..b.len() - 20]),
+        "units.shp",
+        &["record 2", "past the end"],
+    );
+}
+
+#[test]
+fn shapefile_of_points() {
+    let mut b = good_shp();
+    b[32..36].copy_from_slice(&1i32.to_le_bytes());
+    names(
+        &outline_err("points", "units.shp", &b),
+        "units.shp",
+        &["type 1", "point", "polygons"],
+    );
+}
+
+#[test]
+fn shapefile_part_index_out_of_range() {
+    let mut b = good_shp();
+    // Record 1's second part starts at point 5 (byte 100 + 8 + 48): 99.
+    b[100 + 8 + 48..100 + 8 + 52].copy_from_slice(&99i32.to_le_bytes());
+    names(
+        &outline_err("parts", "units.shp", &b),
+        "units.shp",
+        &["record 1", "part 1", "99"],
+    );
+}
+
+#[test]
+fn shapefile_table_shorter_than_it_says() {
+    let d = scratch("shp-dbf");
+    let p = put(&d, "units.shp", &good_shp());
+    let mut dbf = vec![0u8; 32];
+    dbf[0] = 3;
+    dbf[4..8].copy_from_slice(&5u32.to_le_bytes());
+    dbf[8..10].copy_from_slice(&65u16.to_le_bytes());
+    dbf[10..12].copy_from_slice(&11u16.to_le_bytes());
+    let mut f = [0u8; 32];
+    f[..4].copy_from_slice(b"NAME");
+    f[11] = b'C';
+    f[16] = 10;
+    dbf.extend(f);
+    dbf.push(0x0D);
+    dbf.extend(b" sandstone ");
+    put(&d, "units.dbf", &dbf);
+    let e = fieldstone_core::outline::read_outlines(&p)
+        .unwrap_err()
+        .to_string();
+    names(&e, "units.dbf", &["5 records", "record 2"]);
+}
+
 // -------------------------------------------------------------- wireframes
 
 const CUBE_OBJ: &str = "v 0 0 0\nv 1 0 0\nv 1 1 0\nv 0 1 0\nv 0 0 1\nv 1 0 1\nv 1 1 1\nv 0 1 1\nf 1 3 2\nf 1 4 3\nf 5 6 7\nf 5 7 8\nf 1 2 6\nf 1 6 5\nf 2 3 7\nf 2 7 6\nf 3 4 8\nf 3 8 7\nf 4 1 5\nf 4 5 8\n";

@@ -51,6 +51,11 @@ pub struct GridArgs {
     /// Also blank nodes outside the convex hull of the data.
     #[arg(long)]
     pub hull: bool,
+    /// Also blank nodes outside the survey outline(s) in this GeoJSON
+    /// (.geojson) or shapefile (.shp), holes included; brought into the
+    /// grid's reference.
+    #[arg(long, value_name = "OUTLINE")]
+    pub outline: Option<PathBuf>,
     #[arg(long, value_enum, default_value = "min-curvature")]
     pub method: Method,
     /// EPSG code of the x and y columns, written into the GeoTIFF
@@ -93,6 +98,7 @@ pub fn job(a: &GridArgs) -> Result<GridJob, fieldstone_pipeline::Error> {
         tension: a.tension,
         blank_m: a.blank_m,
         hull: a.hull,
+        outline: a.outline.clone(),
         method: match a.method {
             Method::MinCurvature => fieldstone_pipeline::gridding::Method::MinCurvature,
             Method::Biharmonic => fieldstone_pipeline::gridding::Method::Biharmonic,

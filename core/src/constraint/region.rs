@@ -43,6 +43,15 @@ pub enum Region {
         top: Level,
         bottom: Level,
     },
+    /// Map outlines read from a GeoJSON or shapefile (polygons with holes,
+    /// several parts), in the project's reference, extruded between two
+    /// levels; `source` says which file and feature they came from.
+    Outline {
+        source: String,
+        parts: Vec<crate::outline::MapPolygon>,
+        top: Level,
+        bottom: Level,
+    },
     Box {
         x: [f64; 2],
         y: [f64; 2],
@@ -128,6 +137,38 @@ fn level_at_columns(
 }
 
 /// Per-cell weight (0 outside, 1 inside, in between for decaying regions),
+
+/// Marks the cells whose column centre `inside` holds, between the levels
+/// `top` and `bottom` (a map shape extruded in depth).
+fn extruded(
+    w: &mut [f32],
+    mesh: &TensorMesh,
+    top: &Level,
+    bottom: &Level,
+    inputs: &Inputs,
+    inside: &dyn Fn(f64, f64) -> bool,
+) -> Result<(), ConstraintError> {
+    let [nx, ny, nz] = mesh.shape();
+    let (t, b) = (
+        level_at_columns(mesh, top, inputs)?,
+        level_at_columns(mesh, bottom, inputs)?,
+    );
+    let columns: Vec<bool> = (0..nx * ny)
+        .map(|c| {
+            let p = mesh.centre(c % nx, c / nx, 0);
+            inside(p[0], p[1])
+        })
+        .collect();
+    for k in 0..nz {
+        let zc = 0.5 * (mesh.z[k] + mesh.z[k + 1]);
+        for c in (0..nx * ny).filter(|&c| columns[c]) {
+            if zc < t[c] && zc > b[c] {
+                w[c + nx * ny * k] = 1.0;
+            }
+        }
+    }
+    Ok(())
+}
 /// and for drill holes the weighted interval values per value column.
 pub fn membership(
     region: &Region,
@@ -183,19 +224,19 @@ pub fn membership(
                     "a polygon needs at least three vertices".into(),
                 ));
             }
-            let (t, b) = (
-                level_at_columns(mesh, top, inputs)?,
-                level_at_columns(mesh, bottom, inputs)?,
-            );
-            let inside: Vec<bool> = (0..nx * ny)
-                .map(|c| {
-                    let p = mesh.centre(c % nx, c / nx, 0);
-                    crate::grid::blank::inside_polygon(&poly, p[0], p[1])
-                })
-                .collect();
-            by_columns(&mut w, &|i, j, z| {
-                inside[i + nx * j] && z < t[i + nx * j] && z > b[i + nx * j]
-            });
+            let inside = |x, y| crate::grid::blank::inside_polygon(&poly, x, y);
+            extruded(&mut w, mesh, top, bottom, inputs, &inside)?;
+        }
+        Region::Outline {
+            parts, top, bottom, ..
+        } => {
+            if parts.is_empty() {
+                return Err(ConstraintError::Geometry(
+                    "an outline region has no polygons; read them with \"Add outlines from a file…\" in Constraints".into(),
+                ));
+            }
+            let inside = |x, y| parts.iter().any(|q| q.contains(x, y));
+            extruded(&mut w, mesh, top, bottom, inputs, &inside)?;
         }
         Region::Box { x, y, z } => {
             by_columns(&mut w, &|i, j, zc| {

@@ -57,6 +57,7 @@ fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                 tension: gs.tension,
                 blank_m: None,
                 hull: false,
+                outline: None,
                 method: Method::MinCurvature,
                 units: units.into(),
             },

@@ -18,6 +18,9 @@ fn describe(r: &Region) -> String {
             x[0], x[1], y[0], y[1], z[0], z[1]
         ),
         Region::Polygon { vertices, .. } => format!("polygon of {} vertices", vertices.len()),
+        Region::Outline { source, parts, .. } => {
+            format!("outline {source} ({} polygon(s))", parts.len())
+        }
         Region::Wireframe { name } => format!("inside wireframe '{name}'"),
         other => format!("{other:?}")
             .split([' ', '{'])

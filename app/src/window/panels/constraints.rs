@@ -9,6 +9,7 @@ use super::Workspace;
 use egui::{Color32, RichText, Ui};
 use fieldstone_core::constraint::build::{Assignments, ConstraintArrays, Layer};
 use fieldstone_core::constraint::region::{Level, Region};
+use fieldstone_core::outline::{read_outlines, Outline};
 use fieldstone_core::project::file::ProjectFile;
 
 /// An array the constraint layers build, shown as a plan slice.
@@ -111,7 +112,16 @@ pub struct ConstraintsPanel {
     /// Vertices of a polygon being drawn on the map.
     pub drawing: Option<Vec<[f64; 2]>>,
     pub new_scenario_name: String,
+    /// Outlines being read from a file in the background: the file's name
+    /// and, when the job has ended well, the outlines in the project's
+    /// reference.
+    pub outlines: Option<(String, OutlineSlot)>,
 }
+
+/// Where the background job leaves the outlines it read.
+pub type OutlineSlot = std::sync::Arc<std::sync::Mutex<Option<Vec<Outline>>>>;
+
+const OUTLINE_JOB: &str = "reading outlines";
 
 impl Default for ConstraintsPanel {
     fn default() -> Self {
@@ -120,6 +130,7 @@ impl Default for ConstraintsPanel {
             selected_layer: 0,
             drawing: None,
             new_scenario_name: String::new(),
+            outlines: None,
         }
     }
 }
@@ -141,11 +152,31 @@ impl ConstraintsPanel {
 
     pub fn form(&mut self, ws: &mut Workspace, ui: &mut Ui, p: &mut ProjectFile) {
         scenario_picker(ws, ui, p, &mut self.new_scenario_name);
+        let epsg = p.epsg;
+        let top = p_top(ws);
+        let taken = self.take_outlines(ws);
         let surfaces: Vec<String> = p.surfaces.iter().map(|s| s.name.clone()).collect();
         let wireframes: Vec<String> = p.wireframes.iter().map(|s| s.name.clone()).collect();
         let Some(s) = p.scenarios.get_mut(ws.scenario) else {
             return;
         };
+        // Outlines read from a file become one layer each.
+        if let Some((file, outlines)) = taken {
+            for o in outlines {
+                s.layers.push(Layer {
+                    name: o.name.clone(),
+                    enabled: true,
+                    region: Region::Outline {
+                        source: format!("{file}: {}", o.name),
+                        parts: o.parts,
+                        top: Level::Elevation { z_m: top },
+                        bottom: Level::Elevation { z_m: top - 300.0 },
+                    },
+                    assign: Assignments::default(),
+                });
+            }
+            self.selected_layer = s.layers.len().saturating_sub(1);
+        }
         ui.label(RichText::new("Layers (later layers override earlier ones)").strong());
         let mut action: Option<(usize, &str)> = None;
         for (i, l) in s.layers.iter_mut().enumerate() {
@@ -207,6 +238,18 @@ impl ConstraintsPanel {
             {
                 self.drawing = if drawing { None } else { Some(vec![]) };
             }
+            if ui
+                .add_enabled(!ws.busy(), egui::Button::new("Add outlines from a file…"))
+                .on_hover_text("GeoJSON (.geojson) or ESRI shapefile (.shp with .shx, .dbf, .prj): one layer per feature, brought into the project's reference")
+                .clicked()
+            {
+                if let Some(f) = rfd::FileDialog::new()
+                    .add_filter("outlines", &["geojson", "json", "shp"])
+                    .pick_file()
+                {
+                    self.start_reading(ws, ui.ctx(), f, epsg);
+                }
+            }
         });
         if let Some(v) = self.drawing.as_mut() {
             ui.label(
@@ -223,7 +266,6 @@ impl ConstraintsPanel {
         }
         // A closed polygon becomes a new layer.
         if let Some(v) = self.closed_polygon() {
-            let top = p_top(ws);
             s.layers.push(Layer {
                 name: format!("polygon {}", s.layers.len() + 1),
                 enabled: true,
@@ -294,6 +336,49 @@ fn p_top(ws: &Workspace) -> f64 {
 }
 
 impl ConstraintsPanel {
+    /// Reads the outlines of `file` in a background job.
+    pub fn start_reading(
+        &mut self,
+        ws: &mut Workspace,
+        ctx: &egui::Context,
+        file: std::path::PathBuf,
+        epsg: Option<u32>,
+    ) {
+        let slot: OutlineSlot = Default::default();
+        let name = file
+            .file_name()
+            .map(|n| n.to_string_lossy().to_string())
+            .unwrap_or_default();
+        self.outlines = Some((name, slot.clone()));
+        ws.start_task(OUTLINE_JOB, ctx, move |obs| {
+            let f = read_outlines(&file).map_err(|e| e.to_string())?;
+            let (o, warnings) = f.to_project(epsg).map_err(|e| e.to_string())?;
+            for w in warnings {
+                obs.warning(&w);
+            }
+            let n = o.len();
+            *slot
+                .lock()
+                .map_err(|_| "the outline job's result was lost")? = Some(o);
+            Ok(format!("{n} outline(s) read from {}", file.display()))
+        });
+    }
+
+    /// The outlines of a finished reading job, once.
+    fn take_outlines(&mut self, ws: &mut Workspace) -> Option<(String, Vec<Outline>)> {
+        if self.outlines.is_none() || ws.busy() {
+            return None;
+        }
+        match &ws.finished {
+            Some((title, _)) if title == OUTLINE_JOB => {}
+            _ => return None,
+        }
+        ws.finished = None;
+        let (file, slot) = self.outlines.take()?;
+        let got = slot.lock().ok()?.take()?;
+        Some((file, got))
+    }
+
     pub fn view(&mut self, ws: &mut Workspace, ui: &mut Ui) {
         let Some(doc) = ws.doc.as_ref() else { return };
         let Some(sc) = doc.project.scenarios.get(ws.scenario).cloned() else {
@@ -324,11 +409,19 @@ impl ConstraintsPanel {
             .layers
             .iter()
             .filter_map(|l| match &l.region {
-                fieldstone_core::constraint::region::Region::Polygon { vertices, .. } => {
-                    Some((vertices.clone(), Color32::from_rgb(200, 30, 30), true))
-                }
+                fieldstone_core::constraint::region::Region::Polygon { vertices, .. } => Some(
+                    vec![(vertices.clone(), Color32::from_rgb(200, 30, 30), true)],
+                ),
+                fieldstone_core::constraint::region::Region::Outline { parts, .. } => Some(
+                    parts
+                        .iter()
+                        .flat_map(|q| std::iter::once(&q.outer).chain(&q.holes))
+                        .map(|r| (r.clone(), Color32::from_rgb(200, 30, 30), true))
+                        .collect(),
+                ),
                 _ => None,
             })
+            .flatten()
             .collect();
         if let Some(d) = &self.drawing {
             extra.push((d.clone(), Color32::from_rgb(230, 120, 0), false));

@@ -20,6 +20,7 @@ pub fn layer_editor(ui: &mut Ui, l: &mut Layer, surfaces: &[String], wireframes:
         "box",
         "wireframe",
         "drill holes",
+        "outline from a file",
     ];
     let mut k = match &l.region {
         Region::Whole => 0,
@@ -29,6 +30,7 @@ pub fn layer_editor(ui: &mut Ui, l: &mut Layer, surfaces: &[String], wireframes:
         Region::Box { .. } => 4,
         Region::Wireframe { .. } => 5,
         Region::DrillHoles { .. } => 6,
+        Region::Outline { .. } => 7,
         _ => 0,
     };
     let before = k;
@@ -62,9 +64,17 @@ pub fn layer_editor(ui: &mut Ui, l: &mut Layer, surfaces: &[String], wireframes:
             5 => Region::Wireframe {
                 name: first(wireframes),
             },
-            _ => Region::DrillHoles {
+            6 => Region::DrillHoles {
                 radius_m: 40.0,
                 decay: true,
+            },
+            // Outlines come from "Add outlines from a file…"; an empty one
+            // is refused with that advice when the constraints are built.
+            _ => Region::Outline {
+                source: String::new(),
+                parts: Vec::new(),
+                top: Level::Elevation { z_m: 400.0 },
+                bottom: Level::Elevation { z_m: 0.0 },
             },
         };
     }
@@ -84,6 +94,32 @@ pub fn layer_editor(ui: &mut Ui, l: &mut Layer, surfaces: &[String], wireframes:
             bottom,
         } => {
             ui.label(format!("{} vertices (draw on the map)", vertices.len()));
+            for (lv, name) in [(top, "top"), (bottom, "bottom")] {
+                if let Level::Elevation { z_m } = lv {
+                    num(ui, &format!("{name} elevation"), z_m, 1.0, "m");
+                }
+            }
+        }
+        Region::Outline {
+            source,
+            parts,
+            top,
+            bottom,
+        } => {
+            if parts.is_empty() {
+                warn(
+                    ui,
+                    "no outline yet: use \"Add outlines from a file…\" above",
+                );
+            } else {
+                let holes: usize = parts.iter().map(|q| q.holes.len()).sum();
+                let area: f64 = parts.iter().map(|q| q.area()).sum();
+                ui.label(format!(
+                    "{source}: {} polygon(s), {holes} hole(s), {:.3} km²",
+                    parts.len(),
+                    area / 1e6
+                ));
+            }
             for (lv, name) in [(top, "top"), (bottom, "bottom")] {
                 if let Level::Elevation { z_m } = lv {
                     num(ui, &format!("{name} elevation"), z_m, 1.0, "m");
