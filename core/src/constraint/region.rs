@@ -136,8 +136,6 @@ fn level_at_columns(
     }
 }
 
-/// Per-cell weight (0 outside, 1 inside, in between for decaying regions),
-
 /// Marks the cells whose column centre `inside` holds, between the levels
 /// `top` and `bottom` (a map shape extruded in depth).
 fn extruded(
@@ -169,6 +167,8 @@ fn extruded(
     }
     Ok(())
 }
+
+/// Per-cell weight (0 outside, 1 inside, in between for decaying regions),
 /// and for drill holes the weighted interval values per value column.
 pub fn membership(
     region: &Region,
