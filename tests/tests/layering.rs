@@ -16,7 +16,10 @@ const CORE_LAYERS: &[(&str, &[&str])] = &[
         &["units", "memory", "io", "progress", "time", "numeric"],
     ),
     ("readers and references", &["table", "geodesy"]),
-    ("grids and kernels", &["grid", "physics"]),
+    (
+        "grids, outlines and kernels",
+        &["grid", "outline", "physics"],
+    ),
     (
         "survey data, meshes, forward models",
         &["survey", "mesh", "forward"],

@@ -12,3 +12,4 @@ pub mod ellipsoid;
 pub mod igrf;
 pub mod normal_gravity;
 pub mod tm;
+pub mod wkt;

@@ -39,7 +39,7 @@ pub fn read_grid(path: &Path) -> Result<Grid2, GridReadError> {
             let mut g = read_xyz(path, &TextOptions::default())?;
             // An XYZ file names no reference; a .prj beside it may.
             if let Ok(wkt) = std::fs::read_to_string(path.with_extension("prj")) {
-                g.epsg = super::ascii::epsg_of_wkt(&wkt);
+                g.epsg = crate::geodesy::wkt::epsg_of_wkt(&wkt);
             }
             Ok(g)
         }

@@ -9,7 +9,7 @@
 //! first character field), the reference from the `.prj` (WKT).
 
 use super::{clean_ring, signed_area, MapPolygon, Outline, OutlineError, OutlineFile};
-use crate::grid::ascii::epsg_of_wkt;
+use crate::geodesy::wkt::epsg_of_wkt;
 use std::path::Path;
 
 /// Reads a shapefile: `path` is the `.shp`.

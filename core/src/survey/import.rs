@@ -10,7 +10,6 @@ use crate::table::{ColumnData, ColumnKind, TableError, TextOptions};
 use crate::time::{parse_date, parse_datetime, parse_time_of_day, DateOrder, TimeFormat};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
-use std::io::Read;
 use std::path::{Path, PathBuf};
 use thiserror::Error;
 
@@ -368,21 +367,7 @@ pub fn import_memory_needed(path: &Path, head: &[u8], kinds: &[ColumnKind]) -> u
     rows * (crate::table::read::bytes_per_row(kinds) + 32)
 }
 
-/// The first 256 kB of a file, for sniffing its layout.
-pub fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
-    let f = std::fs::File::open(path).map_err(|source| TableError::Read {
-        file: path.to_path_buf(),
-        source,
-    })?;
-    let mut head = Vec::new();
-    f.take(256 * 1024)
-        .read_to_end(&mut head)
-        .map_err(|source| TableError::Read {
-            file: path.to_path_buf(),
-            source,
-        })?;
-    Ok(head)
-}
+pub use crate::table::read::read_head;
 
 /// The UTM (or MGA) reference on the same datum as geographic code `geo` for
 /// a survey centred at `lon`, `lat`.

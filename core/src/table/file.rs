@@ -24,7 +24,7 @@ pub fn sniff_file(path: &Path, opts: &TextOptions) -> Result<Sniffed, TableError
     if let Some(def) = gdf_definition(path)? {
         return sniff_gdf(path, &def);
     }
-    let head = crate::survey::import::read_head(path)?;
+    let head = super::read::read_head(path)?;
     sniff(&head, path, opts)
 }
 

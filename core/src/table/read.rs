@@ -222,6 +222,22 @@ fn read_from(
     })
 }
 
+/// The first 256 kB of a file, for sniffing its layout.
+pub fn read_head(path: &Path) -> Result<Vec<u8>, TableError> {
+    let f = std::fs::File::open(path).map_err(|source| TableError::Read {
+        file: path.to_path_buf(),
+        source,
+    })?;
+    let mut head = Vec::new();
+    f.take(HEAD_BYTES as u64)
+        .read_to_end(&mut head)
+        .map_err(|source| TableError::Read {
+            file: path.to_path_buf(),
+            source,
+        })?;
+    Ok(head)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
