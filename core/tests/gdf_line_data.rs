@@ -171,3 +171,37 @@ fn a_record_that_fits_neither_widths_nor_tokens_is_refused_with_its_line() {
         "{e}"
     );
 }
+
+/// The same file read by the aseg_gdf2 package (an independent reader;
+/// tests/fixtures/gdf/make_gdf.py, version in expected.json): names,
+/// values and nulls agree exactly.
+#[test]
+fn a_file_reads_as_an_independent_reader_reads_it() {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../tests/fixtures/gdf");
+    let e: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("expected.json")).unwrap()).unwrap();
+    let t = read_table_file(&dir.join("invented_mag.dat"), &TextOptions::default(), None).unwrap();
+    let names: Vec<&str> = e["columns"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c.as_str().unwrap())
+        .collect();
+    assert_eq!(t.names, names);
+    let rows = e["values"].as_array().unwrap();
+    assert_eq!(t.n_rows(), rows.len());
+    let mut nulls = 0;
+    for (r, row) in rows.iter().enumerate() {
+        for (c, v) in row.as_array().unwrap().iter().enumerate() {
+            let ours = t.columns[c].as_numbers().unwrap()[r];
+            match v.as_f64() {
+                Some(x) => assert_eq!(ours, x, "row {r}, column {}", names[c]),
+                None => {
+                    assert!(ours.is_nan(), "row {r}, column {}: {ours}", names[c]);
+                    nulls += 1;
+                }
+            }
+        }
+    }
+    assert_eq!(nulls, 3);
+}

@@ -236,3 +236,45 @@ fn an_outline_region_holds_the_cells_inside_its_parts_and_not_its_holes() {
     assert_eq!(at(7, 2, 9), 0.0, "between the parts");
     assert_eq!(at(0, 0, 2), 0.0, "below the bottom level");
 }
+
+/// A shapefile written by pyshp (tests/fixtures/outlines/make_shapefile.py,
+/// library version in expected.json) reads back with the rings pyshp reads:
+/// an independent writer and reader of the format.
+#[test]
+fn a_shapefile_written_by_pyshp_reads_as_pyshp_reads_it() {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("fixtures/outlines");
+    let expected: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("expected.json")).unwrap()).unwrap();
+    let f = read_outlines(&dir.join("invented_units.shp")).unwrap();
+    assert_eq!(f.epsg, Some(32617));
+    let records = expected["records"].as_array().unwrap();
+    assert_eq!(f.outlines.len(), records.len());
+    let ring = |v: &serde_json::Value| -> Vec<[f64; 2]> {
+        let mut r: Vec<[f64; 2]> = v
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|p| [p[0].as_f64().unwrap(), p[1].as_f64().unwrap()])
+            .collect();
+        r.pop(); // the closing vertex
+        r
+    };
+    for (o, e) in f.outlines.iter().zip(records) {
+        assert_eq!(o.name, e["name"].as_str().unwrap());
+        let rings: Vec<Vec<[f64; 2]>> = e["rings"].as_array().unwrap().iter().map(ring).collect();
+        // Every ring pyshp reads is one of ours, as an outer ring or a hole.
+        let ours: Vec<&Vec<[f64; 2]>> = o
+            .parts
+            .iter()
+            .flat_map(|p| std::iter::once(&p.outer).chain(&p.holes))
+            .collect();
+        assert_eq!(ours.len(), rings.len());
+        for r in &rings {
+            assert!(ours.contains(&r), "{r:?} not read");
+        }
+    }
+    assert_eq!(f.outlines[0].parts[0].holes.len(), 1);
+    assert_eq!(f.outlines[1].parts.len(), 2);
+    // 1 km square less a 200 m square hole.
+    assert_eq!(f.outlines[0].parts[0].area(), 1_000_000.0 - 40_000.0);
+}
