@@ -3,7 +3,7 @@
 //! distance and hull, GeoTIFF or CSV out).
 
 use crate::error::{Error, Result};
-use crate::reduction::survey_files::{spec_for_file, ReadOptions};
+use crate::reduction::survey_files::{column_values, spec_for_file, ReadOptions};
 use fieldstone_core::grid::biharmonic::biharmonic;
 use fieldstone_core::grid::blank::{blank_by_distance, blank_outside, convex_hull, suggest_cell};
 use fieldstone_core::grid::geotiff::write_geotiff;
@@ -70,41 +70,24 @@ struct Points {
 fn read_points(job: &GridJob) -> Result<Points> {
     let spec = spec_for_file(&job.input, &job.read)?;
     let survey = import_survey(&job.input, &spec).map_err(|e| Error::Input(e.to_string()))?;
+    let values = column_values(&job.input, &spec, &survey, &job.value)?;
     let want = job.value.trim();
-    let i = spec
+    let c = spec
         .columns
         .iter()
-        .position(|c| c.name == want)
-        .or_else(|| {
-            spec.columns
-                .iter()
-                .position(|c| c.name.eq_ignore_ascii_case(want))
-        })
-        .ok_or_else(|| {
-            Error::Input(format!(
-                "{}: no column '{want}' to grid; the columns are: {}",
-                job.input.display(),
-                spec.describe_columns()
-            ))
-        })?;
-    let name = &spec.columns[i].name;
-    let (values, unit) = match spec.columns[i].role {
-        Role::Elevation => (survey.elevation_m.clone().unwrap_or_default(), "m"),
-        _ => match survey.channels.iter().find(|c| &c.name == name) {
-            // A carried column has no program unit; its header may name one.
-            Some(c) if c.unit.is_empty() => (
-                c.values.clone(),
-                unit_hint(name).map(|u| u.label()).unwrap_or(""),
-            ),
-            Some(c) => (c.values.clone(), c.unit),
-            None => {
-                return Err(Error::Input(format!(
-                    "{}: column '{name}' ({}) holds no numbers to grid",
-                    job.input.display(),
-                    spec.columns[i].role.key()
-                )))
-            }
-        },
+        .find(|c| c.name.eq_ignore_ascii_case(want));
+    // The program unit of the column's role, or the unit its header names.
+    let unit = match c {
+        Some(c) if c.role == Role::Elevation => "m",
+        Some(c) => survey
+            .channels
+            .iter()
+            .find(|ch| ch.name == c.name)
+            .map(|ch| ch.unit)
+            .filter(|u| !u.is_empty())
+            .or_else(|| unit_hint(&c.name).map(|u| u.label()))
+            .unwrap_or(""),
+        None => "",
     };
     let epsg = survey.crs.as_ref().map(|c| c.epsg()).or(job.read.epsg);
     Ok(Points {

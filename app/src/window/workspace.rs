@@ -254,16 +254,23 @@ impl Workspace {
             Step::Corrections => v
                 .gravity_reduced
                 .as_ref()
-                .map(|r| {
-                    format!(
-                        "{} rows reduced at {} g/cm³",
-                        r.x.len(),
-                        d.project
-                            .gravity_reduction
-                            .map(|g| g.density_g_cc)
-                            .unwrap_or(2.67)
-                    )
-                })
+                .map(
+                    |r| match d.project.gravity.as_ref().and_then(|g| g.given.as_ref()) {
+                        Some(g) => format!(
+                            "{} anomalies as delivered (column '{}')",
+                            r.x.len(),
+                            g.column
+                        ),
+                        None => format!(
+                            "{} rows reduced at {} g/cm³",
+                            r.x.len(),
+                            d.project
+                                .gravity_reduction
+                                .map(|g| g.density_g_cc)
+                                .unwrap_or(2.67)
+                        ),
+                    },
+                )
                 .unwrap_or_else(|| "not reduced yet".into()),
             Step::Grids => v
                 .grids

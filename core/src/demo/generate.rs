@@ -642,6 +642,10 @@ pub fn write_demo(out: &Path, size: DemoSize, obs: &dyn Observer) -> Result<Demo
         thin_to_m: g.station_m,
         uncertainty_floor_nt: 1.0,
         uncertainty_percent: 2.0,
+        given: None,
+        more_files: vec![],
+        columns: vec![],
+        units: vec![],
     });
     p.dem = Some("inputs/terrain.tif".into());
     p.drill_holes = Some(HoleInput {

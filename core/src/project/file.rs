@@ -125,6 +125,28 @@ pub struct GravityInput {
     /// Date (YYYY-MM-DD) of readings whose times are times of day.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub date: Option<String>,
+    /// The files hold anomalies already reduced by whoever delivered them:
+    /// the reduction is not done again (its step shows them as given).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub given: Option<GivenAnomaly>,
+}
+
+/// Anomalies delivered already reduced (a contractor's or an agency's
+/// table): the column that holds them and how they were reduced, as the
+/// user states it. Gravity: a Bouguer (or complete Bouguer) anomaly in
+/// mGal with its reduction density; magnetics: a total-field anomaly in nT,
+/// whose inducing field is the project's.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct GivenAnomaly {
+    /// Header of the anomaly column.
+    pub column: String,
+    /// Density the supplier reduced with, g/cm³ (gravity only): the
+    /// density models are contrasts relative to it.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reduction_density_g_cc: Option<f64>,
+    /// What the supplier says was done (free text kept with the project).
+    #[serde(default, skip_serializing_if = "String::is_empty")]
+    pub note: String,
 }
 
 impl GravityInput {
@@ -149,6 +171,7 @@ impl GravityInput {
             bases: None,
             meter_table: None,
             date: None,
+            given: None,
         }
     }
 
@@ -172,6 +195,26 @@ pub struct MagneticInput {
     pub thin_to_m: f64,
     pub uncertainty_floor_nt: f64,
     pub uncertainty_percent: f64,
+    /// The file holds total-field anomalies already reduced (nT).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub given: Option<GivenAnomaly>,
+    /// More files of the same survey (one a flight, say), read with the
+    /// same settings after `file`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub more_files: Vec<String>,
+    /// Overrides of the guessed column roles: (role key, header).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub columns: Vec<(String, String)>,
+    /// Overrides of the guessed units: (header, unit).
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub units: Vec<(String, String)>,
+}
+
+impl MagneticInput {
+    /// Every file of the survey, in reading order.
+    pub fn files(&self) -> impl Iterator<Item = &String> {
+        std::iter::once(&self.file).chain(&self.more_files)
+    }
 }
 
 /// Drill-hole tables, relative to the project folder.

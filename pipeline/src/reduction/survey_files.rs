@@ -196,6 +196,12 @@ impl SurveyFile {
         Ok(&c.values)
     }
 
+    /// The numbers of the column named `header` (exactly, else ignoring
+    /// case), whatever its role, in program units; missing values are NaN.
+    pub fn column_values(&self, header: &str) -> Result<Vec<f64>> {
+        column_values(&self.path, &self.spec, &self.survey, header)
+    }
+
     /// Station ids as written in the file.
     pub fn station_ids(&self, why: &str) -> Result<Vec<String>> {
         let header = self
@@ -238,6 +244,50 @@ impl SurveyFile {
     /// The file's line of row `r`.
     pub fn line(&self, r: usize) -> u64 {
         self.survey.file_lines[r]
+    }
+}
+
+/// The numbers of the column named `header` (exactly, else ignoring case)
+/// of an imported file, whatever its role, in program units; missing values
+/// are NaN.
+pub fn column_values(
+    path: &Path,
+    spec: &ImportSpec,
+    survey: &Survey,
+    header: &str,
+) -> Result<Vec<f64>> {
+    let want = header.trim();
+    let c = spec
+        .columns
+        .iter()
+        .find(|c| c.name == want)
+        .or_else(|| {
+            spec.columns
+                .iter()
+                .find(|c| c.name.eq_ignore_ascii_case(want))
+        })
+        .ok_or_else(|| {
+            Error::Input(format!(
+                "{}: no column '{want}'; the columns are: {}",
+                path.display(),
+                spec.describe_columns()
+            ))
+        })?;
+    match c.role {
+        Role::Elevation => Ok(survey.elevation_m.clone().unwrap_or_default()),
+        _ => survey
+            .channels
+            .iter()
+            .find(|ch| ch.name == c.name)
+            .map(|ch| ch.values.clone())
+            .ok_or_else(|| {
+                Error::Input(format!(
+                    "{}: column '{}' ({}) holds no numbers",
+                    path.display(),
+                    c.name,
+                    c.role.key()
+                ))
+            }),
     }
 }
 

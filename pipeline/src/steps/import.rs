@@ -74,8 +74,14 @@ fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
         let survey = read_survey_files(&files, &read, &[])?;
         let mut n = 0;
         for f in &survey {
-            f.lat_lon()?;
             f.heights()?;
+            if let Some(a) = &g.given {
+                // Anomalies as delivered: positions, heights and the column.
+                f.column_values(&a.column)?;
+                n += f.survey.n_rows();
+                continue;
+            }
+            f.lat_lon()?;
             f.channel(Role::Gravity, "the readings", "reading or gravity_mgal")?;
             if g.base_station.is_some() || g.bases.is_some() {
                 f.station_ids("the station ids (drift needs the base readings)")?;
@@ -96,15 +102,24 @@ fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
     }
     if let Some(m) = &p.magnetic {
         let read = ReadOptions {
+            columns: m.columns.clone(),
+            units: m.units.clone(),
             epsg: p.epsg,
-            ..Default::default()
         };
-        let survey = read_survey_files(&[at(dir, &m.file)?], &read, &[])?;
+        let files: Vec<PathBuf> = m.files().map(|f| at(dir, f)).collect::<Result<_>>()?;
+        let survey = read_survey_files(&files, &read, &[])?;
         let mut n = 0;
         for f in &survey {
-            f.lat_lon()?;
             f.heights()?;
-            f.channel(Role::Magnetic, "the readings", "mag_nt or tmi")?;
+            match &m.given {
+                Some(a) => {
+                    f.column_values(&a.column)?;
+                }
+                None => {
+                    f.lat_lon()?;
+                    f.channel(Role::Magnetic, "the readings", "mag_nt or tmi")?;
+                }
+            }
             n += f.survey.n_rows();
         }
         report.insert("magnetic_readings".into(), n.into());

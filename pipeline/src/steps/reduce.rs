@@ -6,14 +6,16 @@
 
 use super::{Stage, StepJob};
 use crate::data::{write_points, Points};
-use crate::error::Result;
+use crate::error::{Error, Result};
 use crate::paths::{at, data_path};
+use crate::reduction::survey_files::{read_survey_files, write_survey};
 use crate::reduction::{
     reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, ReadOptions, TerrainInputs,
 };
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{ProjectFile, Scenario};
 use fieldstone_core::project::provenance::hash_json;
+use fieldstone_core::survey::columns::Role;
 use std::path::{Path, PathBuf};
 
 /// The reduce step.
@@ -51,9 +53,97 @@ impl Stage for Reduce {
     }
 }
 
+/// Column the reduced table adds for anomalies given by the supplier.
+pub const GIVEN_GRAVITY_COLUMN: &str = "given_anomaly_mgal";
+pub const GIVEN_MAGNETIC_COLUMN: &str = "given_anomaly_nt";
+
+/// Anomalies delivered already reduced: read through the importer, written
+/// to the reduced table (every input column, the file, the anomaly) and
+/// returned with positions; the reduction is not done again.
+fn given(
+    files: &[PathBuf],
+    read: &ReadOptions,
+    column: &str,
+    out_column: &str,
+    out: &Path,
+) -> Result<Vec<([f64; 3], f64)>> {
+    let files = read_survey_files(files, read, &[out_column])?;
+    let mut values = Vec::with_capacity(files.len());
+    let mut rows = Vec::new();
+    for f in &files {
+        let s = &f.survey;
+        f.require_finite(&s.x, Role::Easting)?;
+        f.require_finite(&s.y, Role::Northing)?;
+        let h = f.heights()?;
+        let v = f.column_values(column)?;
+        for k in 0..s.n_rows() {
+            rows.push(([s.x[k], s.y[k], h[k]], v[k]));
+        }
+        values.push(v);
+    }
+    write_survey(out, &files, &[out_column], |fi, r| vec![values[fi][r]])?;
+    Ok(rows)
+}
+
 fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
     let mut parts = Vec::new();
-    if let Some(g) = &p.gravity {
+    if let Some((g, given_as)) = p
+        .gravity
+        .as_ref()
+        .and_then(|g| g.given.as_ref().map(|a| (g, a)))
+    {
+        let read = ReadOptions {
+            columns: g.columns.clone(),
+            units: g.units.clone(),
+            epsg: p.epsg,
+        };
+        let files = g.files().map(|f| at(dir, f)).collect::<Result<Vec<_>>>()?;
+        let rows = given(
+            &files,
+            &read,
+            &given_as.column,
+            GIVEN_GRAVITY_COLUMN,
+            &data_path(dir, "gravity_reduced.csv"),
+        )?;
+        let mut pts = Points::default();
+        let mut missing = 0;
+        for (k, (xyz, v)) in rows.into_iter().enumerate() {
+            if g.rejected_rows.contains(&k) {
+                continue;
+            }
+            if !v.is_finite() {
+                missing += 1;
+                continue;
+            }
+            pts.xyz.push(xyz);
+            pts.value.push(v);
+            pts.uncertainty.push(g.uncertainty_floor_mgal);
+        }
+        write_points(
+            &data_path(dir, "gravity_stations.csv"),
+            &pts,
+            "cba_mgal",
+            &format!(
+                "Bouguer anomaly as given in column '{}' (not reduced here), mGal",
+                given_as.column
+            ),
+        )?;
+        if missing > 0 {
+            obs.warning(&format!(
+                "{missing} rows have no value in '{}' and are left out",
+                given_as.column
+            ));
+        }
+        parts.push(format!(
+            "{} gravity anomalies given (column '{}', reduced by the supplier{})",
+            pts.value.len(),
+            given_as.column,
+            given_as
+                .reduction_density_g_cc
+                .map(|d| format!(" at {d} g/cm³"))
+                .unwrap_or_default()
+        ));
+    } else if let Some(g) = &p.gravity {
         let s = p.gravity_reduction.unwrap_or_default();
         let out = data_path(dir, "gravity_reduced.csv");
         let readings = reduce_gravity(
@@ -106,14 +196,58 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             s.density_g_cc
         ));
     }
-    if let Some(m) = &p.magnetic {
+    if let Some((m, given_as)) = p
+        .magnetic
+        .as_ref()
+        .and_then(|m| m.given.as_ref().map(|a| (m, a)))
+    {
+        if p.inducing_field.is_none() {
+            return Err(Error::Input(
+                "the magnetic anomalies are given but the project states no inducing field; set it (intensity, inclination, declination) so the models can use them".into(),
+            ));
+        }
+        let read = ReadOptions {
+            columns: m.columns.clone(),
+            units: m.units.clone(),
+            epsg: p.epsg,
+        };
+        let files = m.files().map(|f| at(dir, f)).collect::<Result<Vec<_>>>()?;
+        let rows = given(
+            &files,
+            &read,
+            &given_as.column,
+            GIVEN_MAGNETIC_COLUMN,
+            &data_path(dir, "magnetic_reduced.csv"),
+        )?;
+        let mut pts = Points::default();
+        for (xyz, v) in rows.into_iter().filter(|r| r.1.is_finite()) {
+            pts.xyz.push(xyz);
+            pts.value.push(v);
+            pts.uncertainty.push(m.uncertainty_floor_nt);
+        }
+        write_points(
+            &data_path(dir, "magnetic_points.csv"),
+            &pts,
+            "tmi_nt",
+            &format!(
+                "total-field anomaly as given in column '{}' (not reduced here), nT",
+                given_as.column
+            ),
+        )?;
+        parts.push(format!(
+            "{} magnetic anomalies given (column '{}')",
+            pts.value.len(),
+            given_as.column
+        ));
+    } else if let Some(m) = &p.magnetic {
         let out = data_path(dir, "magnetic_reduced.csv");
         let readings = reduce_magnetic(
             &MagneticJob {
-                inputs: vec![at(dir, &m.file)?],
+                inputs: m.files().map(|f| at(dir, f)).collect::<Result<_>>()?,
                 read: ReadOptions {
+                    columns: m.columns.clone(),
+                    units: m.units.clone(),
                     epsg: p.epsg,
-                    ..Default::default()
                 },
                 date: m.date.clone(),
                 out,

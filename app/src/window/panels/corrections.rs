@@ -4,7 +4,7 @@
 
 use super::widgets::{num, opt_num, warn};
 use egui::{RichText, Ui};
-use fieldstone_core::project::file::ProjectFile;
+use fieldstone_core::project::file::{GivenAnomaly, ProjectFile};
 use std::path::Path;
 
 /// The Corrections step keeps no choices of its own.
@@ -55,10 +55,76 @@ fn project_table(dir: &Path, f: &Path) -> Result<String, String> {
     Ok(rel)
 }
 
+/// The choice of a survey delivered already reduced: the column of its
+/// anomalies and, for gravity, the density the supplier reduced with.
+/// Returns true when the anomalies are given.
+fn given_form(
+    ui: &mut Ui,
+    what: &str,
+    given: &mut Option<GivenAnomaly>,
+    density: Option<&mut f64>,
+) -> bool {
+    let mut on = given.is_some();
+    if ui
+        .checkbox(&mut on, format!("The {what} survey holds anomalies already reduced"))
+        .on_hover_text("A contractor's or an agency's table: the reductions are not done again and show as given")
+        .changed()
+    {
+        *given = on.then(|| GivenAnomaly {
+            column: String::new(),
+            reduction_density_g_cc: None,
+            note: String::new(),
+        });
+    }
+    let Some(g) = given.as_mut() else {
+        return false;
+    };
+    ui.horizontal(|ui| {
+        ui.label("Anomaly column");
+        ui.add(
+            egui::TextEdit::singleline(&mut g.column)
+                .desired_width(150.0)
+                .hint_text("header, as in the file"),
+        );
+    });
+    if g.column.trim().is_empty() {
+        warn(ui, "name the column that holds the anomalies");
+    }
+    if let Some(d) = density {
+        let mut rho = g.reduction_density_g_cc.unwrap_or(*d);
+        num(ui, "Supplier's reduction density", &mut rho, 0.01, "g/cm³");
+        g.reduction_density_g_cc = Some(rho);
+        // Density models are contrasts relative to the reduction density.
+        *d = rho;
+    }
+    ui.horizontal(|ui| {
+        ui.label("What was done");
+        ui.add(
+            egui::TextEdit::singleline(&mut g.note)
+                .desired_width(200.0)
+                .hint_text("e.g. complete Bouguer, terrain to 22 km"),
+        );
+    });
+    true
+}
+
 impl CorrectionsPanel {
     pub fn form(&mut self, ui: &mut Ui, dir: &Path, p: &mut ProjectFile) {
         let mut s = p.gravity_reduction.unwrap_or_default();
         ui.label(RichText::new("Gravity").strong());
+        if let Some(g) = p.gravity.as_mut() {
+            if given_form(ui, "gravity", &mut g.given, Some(&mut s.density_g_cc)) {
+                p.background_density_g_cc = s.density_g_cc;
+                p.gravity_reduction = Some(s);
+                ui.label("Reductions: given by the supplier.");
+                if let Some(m) = p.magnetic.as_mut() {
+                    ui.separator();
+                    ui.label(RichText::new("Magnetics").strong());
+                    given_form(ui, "magnetic", &mut m.given, None);
+                }
+                return;
+            }
+        }
         num(ui, "Reduction density", &mut s.density_g_cc, 0.01, "g/cm³");
         if !(1.5..=3.5).contains(&s.density_g_cc) {
             warn(
@@ -150,6 +216,15 @@ impl CorrectionsPanel {
         if let Some(m) = p.magnetic.as_mut() {
             ui.separator();
             ui.label(RichText::new("Magnetics").strong());
+            if given_form(ui, "magnetic", &mut m.given, None) {
+                if p.inducing_field.is_none() {
+                    warn(
+                        ui,
+                        "given total-field anomalies need the project's inducing field",
+                    );
+                }
+                return;
+            }
             ui.horizontal(|ui| {
                 ui.label("Survey date");
                 ui.text_edit_singleline(&mut m.date);

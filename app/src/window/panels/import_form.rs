@@ -291,6 +291,10 @@ impl ImportForm {
                             thin_to_m: 25.0,
                             uncertainty_floor_nt: 1.0,
                             uncertainty_percent: 2.0,
+                            given: None,
+                            more_files: rels[1..].to_vec(),
+                            columns,
+                            units,
                         });
                     }
                 }

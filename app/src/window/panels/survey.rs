@@ -12,6 +12,7 @@ use crate::window::index::PointIndex;
 use egui::{Color32, RichText, Ui};
 use egui_plot::{Legend, Line, Plot, Points};
 use fieldstone_core::project::file::ProjectFile;
+use fieldstone_pipeline::steps::reduce::GIVEN_GRAVITY_COLUMN;
 
 /// Which table the survey views show.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -133,7 +134,12 @@ impl SurveyPanel {
             }
         }
         let col = if corrections {
-            "complete_bouguer_anomaly_mgal".to_string()
+            // Anomalies as delivered carry their own column.
+            if r.column(GIVEN_GRAVITY_COLUMN).is_some() {
+                GIVEN_GRAVITY_COLUMN.to_string()
+            } else {
+                "complete_bouguer_anomaly_mgal".to_string()
+            }
         } else {
             self.colour_by.clone()
         };
