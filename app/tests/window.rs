@@ -567,3 +567,141 @@ fn outlines_from_a_file_become_constraint_layers() {
         other => panic!("{other:?}"),
     }
 }
+
+/// A magnetic survey of two flights delivered as ASEG-GDF2 (.dat with its
+/// .dfn) goes through the window's import: roles and units from the
+/// definitions, both files and their definitions copied into the project,
+/// and the pipeline reduces both flights into one table.
+#[test]
+fn a_magnetic_survey_of_two_gdf_flights_is_imported_and_reduced() {
+    let dir = demo("gdf-import");
+    let field = std::env::temp_dir().join(format!("fieldstone-window-gdf-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&field);
+    std::fs::create_dir_all(&field).unwrap();
+    let dfn = "DEFN   ST=RECD,RT=COMM;RT:A4;COMMENTS:A76\n\
+DEFN 1 ST=RECD,RT=;LINE:I6\n\
+DEFN 2 ST=RECD,RT=;FID:F9.1\n\
+DEFN 3 ST=RECD,RT=;EASTING:F10.1:UNIT=m\n\
+DEFN 4 ST=RECD,RT=;NORTHING:F11.1:UNIT=m\n\
+DEFN 5 ST=RECD,RT=;GPS_HT:F8.1:UNIT=feet,NULL=-999.9\n\
+DEFN 6 ST=RECD,RT=;TF:F10.2:UNIT=nT,NULL=-99999.99\n\
+DEFN 7 ST=RECD,RT=;END DEFN\n";
+    let mut files = Vec::new();
+    for flight in 0..2 {
+        let mut dat = format!("{:<80}\n", format!("COMM invented flight {}", flight + 1));
+        for l in 0..3 {
+            for k in 0..30 {
+                let (x, y) = (
+                    452_000.0 + 50.0 * k as f64,
+                    5_400_800.0 + 200.0 * (3 * flight + l) as f64,
+                );
+                dat.push_str(&format!(
+                    "{:>6}{:>9.1}{x:>10.1}{y:>11.1}{:>8.1}{:>10.2}\n",
+                    100 * (flight + 1) + l,
+                    1000.0 + k as f64,
+                    1100.0,
+                    54_600.0 + 0.01 * k as f64
+                ));
+            }
+        }
+        let stem = field.join(format!("flight{}", flight + 1));
+        std::fs::write(stem.with_extension("dfn"), dfn).unwrap();
+        std::fs::write(stem.with_extension("dat"), dat).unwrap();
+        files.push(stem.with_extension("dat"));
+    }
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    step(&mut h, "Survey");
+    for f in &files {
+        h.get_by_role(Role::TextInput).focus();
+        h.step();
+        h.get_by_role(Role::TextInput)
+            .type_text(&f.display().to_string());
+        h.run_steps(2);
+        h.get_by_label("Add").click();
+        h.run_steps(2);
+    }
+    h.get_by_label("Preview").click();
+    h.run_steps(3);
+    let pv = h
+        .state()
+        .panels
+        .survey
+        .import
+        .preview
+        .clone()
+        .expect("no preview");
+    use fieldstone_core::survey::columns::Role as R;
+    assert_eq!(
+        pv.roles(),
+        [
+            R::Line,
+            R::Station,
+            R::Easting,
+            R::Northing,
+            R::Elevation,
+            R::Magnetic
+        ]
+    );
+    h.get_by_label("Import as magnetic survey").click();
+    h.run_steps(2);
+    let t0 = Instant::now();
+    while (h.state().ws.job.is_some() || h.state().panels.survey.import.files.len() == 2)
+        && t0.elapsed() < Duration::from_secs(60)
+    {
+        std::thread::sleep(Duration::from_millis(20));
+        h.step();
+    }
+    h.run_steps(3);
+    let m = h
+        .state()
+        .ws
+        .doc
+        .as_ref()
+        .unwrap()
+        .project
+        .magnetic
+        .clone()
+        .unwrap();
+    assert_eq!(
+        m.files().cloned().collect::<Vec<_>>(),
+        ["inputs/flight1.dat", "inputs/flight2.dat"],
+        "{}",
+        h.state().ws.log.join("\n")
+    );
+    assert!(
+        dir.join("inputs/flight2.dfn").exists(),
+        "the definition was not copied"
+    );
+    {
+        let d = h.state_mut().ws.doc.as_mut().unwrap();
+        d.before_edit();
+        // No base record for these invented flights.
+        d.project.magnetic.as_mut().unwrap().base_file = None;
+        d.changed();
+    }
+    h.run_steps(2);
+    h.get_by_label("Run the steps up to the model space")
+        .click();
+    h.run_steps(2);
+    let t0 = Instant::now();
+    while h.state().ws.job.is_some() && t0.elapsed() < Duration::from_secs(300) {
+        std::thread::sleep(Duration::from_millis(50));
+        h.step();
+    }
+    let text = std::fs::read_to_string(dir.join("data/magnetic_reduced.csv"))
+        .unwrap_or_else(|e| panic!("{e}: {}", h.state().ws.log.join("\n")));
+    let header = text.lines().find(|l| !l.starts_with('#')).unwrap();
+    assert!(
+        header.starts_with("LINE,FID,EASTING,NORTHING,GPS_HT,TF,source_file,"),
+        "{header}"
+    );
+    assert_eq!(
+        text.lines().filter(|l| l.contains("flight2.dat")).count(),
+        90
+    );
+    assert_eq!(
+        text.lines().filter(|l| l.contains("flight1.dat")).count(),
+        90
+    );
+}

@@ -13,6 +13,7 @@ use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile};
 use fieldstone_core::survey::columns::{time_format_hint, ColumnSpec, Role};
 use fieldstone_core::survey::import::ImportSpec;
 use fieldstone_core::table::file::sniff_file;
+use fieldstone_core::table::gdf::definition_beside;
 use fieldstone_core::table::TextOptions;
 use std::path::{Path, PathBuf};
 
@@ -226,6 +227,11 @@ impl ImportForm {
                         std::fs::create_dir_all(d).map_err(|e| format!("{}: {e}", d.display()))?;
                     }
                     std::fs::copy(file, &dest).map_err(|e| format!("copying {} to {}: {e}", file.display(), dest.display()))?;
+                    // An ASEG-GDF2 .dat travels with its definition file.
+                    if let Some(dfn) = definition_beside(file) {
+                        let to = dest.with_extension(dfn.extension().unwrap_or_default());
+                        std::fs::copy(&dfn, &to).map_err(|e| format!("copying {} to {}: {e}", dfn.display(), to.display()))?;
+                    }
                 }
                 obs.progress(k + 1, files.len());
             }
