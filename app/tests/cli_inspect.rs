@@ -130,3 +130,38 @@ fn roles_are_listed_and_stray_text_in_a_number_column_is_shown() {
         assert!(s.contains(want), "missing '{want}' in:\n{s}");
     }
 }
+
+/// `--column` and `--unit` show what another command would read when told
+/// them; a second column guessed alike is carried, not refused.
+#[test]
+fn overrides_show_their_effect_and_look_alike_columns_are_carried() {
+    let text = b"P,Q,R,gravity_mgal,observed_gravity_mgal\n1,2,30,4320.1,980000.1\n2,3,31,4320.2,980000.2\n";
+    let o = inspect(text, &[]);
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let row = |out: &str, name: &str| {
+        out.lines()
+            .find(|l| l.split_whitespace().nth(1) == Some(name))
+            .unwrap_or_else(|| panic!("no row {name}: {out}"))
+            .to_string()
+    };
+    assert!(
+        row(&out, "observed_gravity_mgal").contains("pass through"),
+        "{out}"
+    );
+    assert!(row(&out, "R").contains("pass through"), "{out}");
+    let o = inspect(
+        text,
+        &[
+            "--column", "x=P", "--column", "y=Q", "--column", "height=R", "--unit", "R=ft",
+        ],
+    );
+    let out = String::from_utf8_lossy(&o.stdout);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(row(&out, "P").contains("easting"), "{out}");
+    let r = row(&out, "R");
+    assert!(r.contains("elevation") && r.contains("ft"), "{r}");
+    let o = inspect(text, &["--column", "depth=R"]);
+    assert!(!o.status.success());
+    assert!(String::from_utf8_lossy(&o.stderr).contains("'depth' is not a role"));
+}

@@ -38,6 +38,10 @@ pub struct InspectArgs {
     /// A numeric dummy value such as -99999, counted as missing.
     #[arg(long, allow_hyphen_values = true)]
     pub dummy: Option<f64>,
+    /// Roles and units as another command would be told them, to see
+    /// their effect.
+    #[command(flatten)]
+    pub read: super::reduce::ReadArgs,
 }
 
 /// Lists the role keys with what each means and its units.
@@ -108,7 +112,21 @@ pub fn run(args: &InspectArgs) -> super::CliResult {
     let sn = sniff_file(file, &opts).map_err(|e| e.to_string())?;
     // The importer's own guesses (first column of each role, units stated
     // in a definition file), so what is shown is what an import reads.
-    let spec = ImportSpec::guess_for_file(file, &opts, None).map_err(|e| e.to_string())?;
+    let mut spec = ImportSpec::guess_for_file(file, &opts, None).map_err(|e| e.to_string())?;
+    let overrides = args.read.options(None)?;
+    for (key, header) in &overrides.columns {
+        let role = Role::from_key(key).ok_or_else(|| {
+            format!(
+                "--column {key}={header}: '{key}' is not a role; `fieldstone inspect --roles` lists them"
+            )
+        })?;
+        spec.set_role(role, header)
+            .map_err(|e| format!("{}: {e}", file.display()))?;
+    }
+    for (header, unit) in &overrides.units {
+        spec.set_unit(header, unit)
+            .map_err(|e| format!("{}: {e}", file.display()))?;
+    }
     let mut kinds = sn.kinds.clone();
     let mut demoted = vec![false; kinds.len()];
     let t = loop {
