@@ -633,6 +633,33 @@ fn gdf_binary_garbage() {
     );
 }
 
+/// Found by the `gdf` fuzz target: a record-type field (RT:A4) that was not
+/// the first field of the data record became a column in the names but
+/// was skipped by the record splitter, and the reader indexed past the end.
+#[test]
+fn gdf_record_type_field_not_first() {
+    let b = std::fs::read(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/fixtures/fuzz_crash_gdf_record_type_field.gdf"
+    ))
+    .unwrap();
+    let cut = b.windows(8).position(|w| w == b"END DEFN").unwrap() + 8;
+    let (dfn, dat) = b.split_at(cut);
+    match fieldstone_core::table::gdf::parse_definition(dfn, Path::new("lines.dfn")) {
+        Err(e) => names(&e.to_string(), "lines.dfn", &[]),
+        Ok(def) => {
+            if let Err(e) = fieldstone_core::table::gdf::read_gdf_bytes(
+                dat,
+                Path::new("lines.dat"),
+                &def,
+                &TextOptions::default(),
+            ) {
+                names(&e.to_string(), "lines.dat", &[]);
+            }
+        }
+    }
+}
+
 // ------------------------------------------------------ ESRI ASCII grids
 
 const GOOD_ASC: &str = "ncols 3\nnrows 2\nxllcorner 451000\nyllcorner 5400000\ncellsize 50\nNODATA_value -9999\n1 2 3\n4 5 6\n";

@@ -91,9 +91,14 @@ impl Definition {
             .collect()
     }
 
-    /// Fields that become columns (a leading record-type field does not).
+    /// Fields that become columns (a leading record-type field does not;
+    /// the record splitter skips the same one).
     fn data_fields(&self) -> impl Iterator<Item = &Field> {
-        self.fields.iter().filter(|f| !is_record_type_field(f))
+        self.fields
+            .iter()
+            .enumerate()
+            .filter(|(i, f)| !(*i == 0 && is_record_type_field(f)))
+            .map(|(_, f)| f)
     }
 
     /// Characters of a whole record.
