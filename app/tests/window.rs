@@ -705,3 +705,39 @@ DEFN 7 ST=RECD,RT=;END DEFN\n";
         90
     );
 }
+
+/// "Add as a further gravity survey" keeps the project's first survey and
+/// adds the files as a further one, named after the first file.
+#[test]
+fn a_further_survey_is_added_beside_the_first() {
+    let dir = demo("further");
+    let mut h = harness(&dir);
+    h.run_steps(3);
+    step(&mut h, "Survey");
+    let first = h.state().ws.doc.as_ref().unwrap().project.gravity.clone();
+    let f = dir.join("inputs/gravity_readings.csv");
+    h.get_by_role(Role::TextInput).focus();
+    h.step();
+    h.get_by_role(Role::TextInput)
+        .type_text(&f.display().to_string());
+    h.run_steps(2);
+    h.get_by_label("Add").click();
+    h.run_steps(2);
+    h.get_by_label("Preview").click();
+    h.run_steps(3);
+    h.get_by_label("Add as a further gravity survey").click();
+    h.run_steps(2);
+    let t0 = Instant::now();
+    while (h.state().ws.job.is_some() || !h.state().panels.survey.import.files.is_empty())
+        && t0.elapsed() < Duration::from_secs(60)
+    {
+        std::thread::sleep(Duration::from_millis(20));
+        h.step();
+    }
+    h.run_steps(3);
+    let p = &h.state().ws.doc.as_ref().unwrap().project;
+    assert_eq!(p.gravity, first, "the first survey changed");
+    assert_eq!(p.more_gravity.len(), 1, "{}", h.state().ws.log.join("\n"));
+    assert_eq!(p.more_gravity[0].name, "gravity_readings");
+    assert_eq!(p.more_gravity[0].survey.file, "inputs/gravity_readings.csv");
+}

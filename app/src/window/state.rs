@@ -523,6 +523,14 @@ pub fn load_views(dir: &Path, p: &ProjectFile) -> Views {
             }
         }
     }
+    for key in crate::window::panels::grids::further_grid_keys(p) {
+        let f = dir.join(format!("data/{key}.tif"));
+        if f.exists() {
+            note(read_geotiff(&f).map_err(|e| e.to_string()).map(|g| {
+                v.grids.insert(key.clone(), Arc::new(g));
+            }));
+        }
+    }
     for kind in ["gravity", "magnetic"] {
         if let Some(pts) = data_points(dir, kind) {
             v.data_counts.insert(kind.to_string(), pts.value.len());

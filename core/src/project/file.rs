@@ -181,6 +181,23 @@ impl GravityInput {
     }
 }
 
+/// A further survey of a kind beside the project's first one (ground and
+/// airborne gravity; two magnetic surveys of different years), with its own
+/// files and settings. It is imported, reduced and gridded on its own
+/// (`data/<kind>_<name>_*`); the regional separation and the inversions use
+/// the first survey of each kind.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct FurtherSurvey<T> {
+    /// A name unique among the further surveys of its kind.
+    pub name: String,
+    /// Reduction settings of a gravity survey when they differ from the
+    /// project's (a survey reduced with another density, say).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reduction: Option<GravitySettings>,
+    #[serde(flatten)]
+    pub survey: T,
+}
+
 /// The magnetic survey of a project.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct MagneticInput {
@@ -297,6 +314,12 @@ pub struct ProjectFile {
     #[serde(default)]
     pub wireframes: Vec<NamedFile>,
     pub gravity_reduction: Option<GravitySettings>,
+    /// Further gravity surveys beside `gravity`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub more_gravity: Vec<FurtherSurvey<GravityInput>>,
+    /// Further magnetic surveys beside `magnetic`.
+    #[serde(default, skip_serializing_if = "Vec::is_empty")]
+    pub more_magnetic: Vec<FurtherSurvey<MagneticInput>>,
     #[serde(default)]
     pub gridding: Option<GridSettings>,
     pub regional: Option<RegionalMethod>,
@@ -366,6 +389,8 @@ impl ProjectFile {
             surfaces: vec![],
             wireframes: vec![],
             gravity_reduction: None,
+            more_gravity: Vec::new(),
+            more_magnetic: Vec::new(),
             gridding: None,
             regional: None,
             magnetic_regional: None,
@@ -470,10 +495,36 @@ impl ProjectFile {
                 paths.push(("gravity.meter_table".into(), m));
             }
         }
-        if let Some(m) = &self.magnetic {
-            paths.push(("magnetic.file".into(), &m.file));
+        for (k, f) in self.more_gravity.iter().enumerate() {
+            let (what, g) = (format!("more_gravity[{k}]"), &f.survey);
+            paths.push((format!("{what}.file"), &g.file));
+            for (j, m) in g.more_files.iter().enumerate() {
+                paths.push((format!("{what}.more_files[{j}]"), m));
+            }
+            if let Some(b) = &g.bases {
+                paths.push((format!("{what}.bases"), b));
+            }
+            if let Some(m) = &g.meter_table {
+                paths.push((format!("{what}.meter_table"), m));
+            }
+        }
+        let magnetic = self
+            .magnetic
+            .iter()
+            .map(|m| ("magnetic".to_string(), m))
+            .chain(
+                self.more_magnetic
+                    .iter()
+                    .enumerate()
+                    .map(|(k, f)| (format!("more_magnetic[{k}]"), &f.survey)),
+            );
+        for (what, m) in magnetic {
+            paths.push((format!("{what}.file"), &m.file));
+            for (k, f) in m.more_files.iter().enumerate() {
+                paths.push((format!("{what}.more_files[{k}]"), f));
+            }
             if let Some(b) = &m.base_file {
-                paths.push(("magnetic.base_file".into(), b));
+                paths.push((format!("{what}.base_file"), b));
             }
         }
         if let Some(d) = &self.dem {

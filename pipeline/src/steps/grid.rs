@@ -1,7 +1,7 @@
 //! Grid: each data kind's stations gridded by minimum curvature at the
 //! project's cell size (`data/<kind>_grid.tif`).
 
-use super::{kinds, Stage, StepJob};
+use super::{further_kinds, kinds, Stage, StepJob};
 use crate::error::Result;
 use crate::gridding::{grid_points, GridJob, Method};
 use crate::paths::data_path;
@@ -27,7 +27,9 @@ impl Stage for Grid {
     fn outputs(&self, dir: &Path, p: &ProjectFile, _s: Option<&Scenario>) -> Vec<PathBuf> {
         kinds(p)
             .iter()
-            .map(|(k, ..)| data_path(dir, &format!("{k}_grid.tif")))
+            .map(|(k, ..)| k.to_string())
+            .chain(further_kinds(p).into_iter().map(|f| f.0))
+            .map(|k| data_path(dir, &format!("{k}_grid.tif")))
             .collect()
     }
     fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
@@ -41,12 +43,17 @@ fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
         .clone()
         .ok_or("the project has no gridding settings")?;
     let mut parts = Vec::new();
-    for (kind, file, col, units) in kinds(p) {
+    let all: Vec<(String, String, &str, &str)> = kinds(p)
+        .into_iter()
+        .map(|(k, f, c, u)| (k.to_string(), f.to_string(), c, u))
+        .chain(further_kinds(p))
+        .collect();
+    for (kind, file, col, units) in &all {
         let out = data_path(dir, &format!("{kind}_grid.tif"));
         grid_points(
             &GridJob {
                 input: data_path(dir, file),
-                value: col.into(),
+                value: col.to_string(),
                 read: ReadOptions {
                     columns: vec![("x".into(), "x".into()), ("y".into(), "y".into())],
                     units: Vec::new(),
@@ -59,7 +66,7 @@ fn grid(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                 hull: false,
                 outline: None,
                 method: Method::MinCurvature,
-                units: units.into(),
+                units: units.to_string(),
             },
             obs,
         )?;

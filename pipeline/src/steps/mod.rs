@@ -125,6 +125,31 @@ pub(crate) fn kinds(
     v
 }
 
+/// The further surveys' gridding inputs: (file prefix, stations file,
+/// value column, unit), `data/<prefix>_grid.tif` out.
+pub(crate) fn further_kinds(p: &ProjectFile) -> Vec<(String, String, &'static str, &'static str)> {
+    let mut v = Vec::new();
+    for f in &p.more_gravity {
+        let prefix = reduce::further_prefix("gravity", &f.name);
+        v.push((
+            prefix.clone(),
+            format!("{prefix}_stations.csv"),
+            "cba_mgal",
+            "mGal",
+        ));
+    }
+    for f in &p.more_magnetic {
+        let prefix = reduce::further_prefix("magnetic", &f.name);
+        v.push((
+            prefix.clone(),
+            format!("{prefix}_points.csv"),
+            "tmi_nt",
+            "nT",
+        ));
+    }
+    v
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

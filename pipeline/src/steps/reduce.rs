@@ -13,8 +13,9 @@ use crate::reduction::{
     reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, ReadOptions, TerrainInputs,
 };
 use fieldstone_core::progress::Observer;
-use fieldstone_core::project::file::{ProjectFile, Scenario};
+use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile, Scenario};
 use fieldstone_core::project::provenance::hash_json;
+use fieldstone_core::reduce::gravity::GravitySettings;
 use fieldstone_core::survey::columns::Role;
 use std::path::{Path, PathBuf};
 
@@ -29,12 +30,18 @@ impl Stage for Reduce {
         "reduce the readings to anomalies"
     }
     fn parameters(&self, p: &ProjectFile, _s: Option<&Scenario>) -> String {
-        hash_json(&(
+        let first = (
             &p.gravity_reduction,
             &p.gravity,
             &p.magnetic,
             p.background_density_g_cc,
-        ))
+        );
+        // Projects without further surveys keep the hash they had.
+        if p.more_gravity.is_empty() && p.more_magnetic.is_empty() {
+            hash_json(&first)
+        } else {
+            hash_json(&(first, &p.more_gravity, &p.more_magnetic))
+        }
     }
     fn outputs(&self, dir: &Path, p: &ProjectFile, _s: Option<&Scenario>) -> Vec<PathBuf> {
         let mut out = vec![];
@@ -45,6 +52,16 @@ impl Stage for Reduce {
         if p.magnetic.is_some() {
             out.push(data_path(dir, "magnetic_reduced.csv"));
             out.push(data_path(dir, "magnetic_points.csv"));
+        }
+        for f in &p.more_gravity {
+            let prefix = further_prefix("gravity", &f.name);
+            out.push(data_path(dir, &format!("{prefix}_reduced.csv")));
+            out.push(data_path(dir, &format!("{prefix}_stations.csv")));
+        }
+        for f in &p.more_magnetic {
+            let prefix = further_prefix("magnetic", &f.name);
+            out.push(data_path(dir, &format!("{prefix}_reduced.csv")));
+            out.push(data_path(dir, &format!("{prefix}_points.csv")));
         }
         out
     }
@@ -87,11 +104,45 @@ fn given(
 
 fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
     let mut parts = Vec::new();
-    if let Some((g, given_as)) = p
-        .gravity
-        .as_ref()
-        .and_then(|g| g.given.as_ref().map(|a| (g, a)))
-    {
+    let settings = p.gravity_reduction.unwrap_or_default();
+    if let Some(g) = &p.gravity {
+        parts.push(reduce_gravity_survey(dir, p, g, settings, "gravity", obs)?);
+    }
+    if let Some(m) = &p.magnetic {
+        parts.push(reduce_magnetic_survey(dir, p, m, "magnetic", obs)?);
+    }
+    for f in &p.more_gravity {
+        let s = f.reduction.unwrap_or(settings);
+        let prefix = further_prefix("gravity", &f.name);
+        let done = reduce_gravity_survey(dir, p, &f.survey, s, &prefix, obs)?;
+        parts.push(format!("{}: {done}", f.name));
+    }
+    for f in &p.more_magnetic {
+        let prefix = further_prefix("magnetic", &f.name);
+        let done = reduce_magnetic_survey(dir, p, &f.survey, &prefix, obs)?;
+        parts.push(format!("{}: {done}", f.name));
+    }
+    Ok(parts.join("; "))
+}
+
+/// The file prefix of a further survey: `<kind>_<name>` with the name made
+/// safe for a file name.
+pub fn further_prefix(kind: &str, name: &str) -> String {
+    format!("{kind}_{}", crate::paths::safe_name(name))
+}
+
+/// Reduces one gravity survey into `data/<prefix>_reduced.csv` and
+/// `data/<prefix>_stations.csv`.
+fn reduce_gravity_survey(
+    dir: &Path,
+    p: &ProjectFile,
+    g: &GravityInput,
+    settings: GravitySettings,
+    prefix: &str,
+    obs: &dyn Observer,
+) -> Result<String> {
+    let mut parts = Vec::new();
+    if let Some(given_as) = &g.given {
         let read = ReadOptions {
             columns: g.columns.clone(),
             units: g.units.clone(),
@@ -103,7 +154,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             &read,
             &given_as.column,
             GIVEN_GRAVITY_COLUMN,
-            &data_path(dir, "gravity_reduced.csv"),
+            &data_path(dir, &format!("{prefix}_reduced.csv")),
         )?;
         let mut pts = Points::default();
         let mut missing = 0;
@@ -120,7 +171,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             pts.uncertainty.push(g.uncertainty_floor_mgal);
         }
         write_points(
-            &data_path(dir, "gravity_stations.csv"),
+            &data_path(dir, &format!("{prefix}_stations.csv")),
             &pts,
             "cba_mgal",
             &format!(
@@ -143,9 +194,9 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
                 .map(|d| format!(" at {d} g/cm³"))
                 .unwrap_or_default()
         ));
-    } else if let Some(g) = &p.gravity {
-        let s = p.gravity_reduction.unwrap_or_default();
-        let out = data_path(dir, "gravity_reduced.csv");
+    } else {
+        let s = settings;
+        let out = data_path(dir, &format!("{prefix}_reduced.csv"));
         let readings = reduce_gravity(
             &GravityJob {
                 inputs: g.files().map(|f| at(dir, f)).collect::<Result<_>>()?,
@@ -185,7 +236,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             pts.uncertainty.push(g.uncertainty_floor_mgal);
         }
         write_points(
-            &data_path(dir, "gravity_stations.csv"),
+            &data_path(dir, &format!("{prefix}_stations.csv")),
             &pts,
             "cba_mgal",
             "complete Bouguer anomaly at the survey stations (base readings left out), mGal",
@@ -196,11 +247,20 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             s.density_g_cc
         ));
     }
-    if let Some((m, given_as)) = p
-        .magnetic
-        .as_ref()
-        .and_then(|m| m.given.as_ref().map(|a| (m, a)))
-    {
+    Ok(parts.join("; "))
+}
+
+/// Reduces one magnetic survey into `data/<prefix>_reduced.csv` and
+/// `data/<prefix>_points.csv`.
+fn reduce_magnetic_survey(
+    dir: &Path,
+    p: &ProjectFile,
+    m: &MagneticInput,
+    prefix: &str,
+    obs: &dyn Observer,
+) -> Result<String> {
+    let mut parts = Vec::new();
+    if let Some(given_as) = &m.given {
         if p.inducing_field.is_none() {
             return Err(Error::Input(
                 "the magnetic anomalies are given but the project states no inducing field; set it (intensity, inclination, declination) so the models can use them".into(),
@@ -217,7 +277,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             &read,
             &given_as.column,
             GIVEN_MAGNETIC_COLUMN,
-            &data_path(dir, "magnetic_reduced.csv"),
+            &data_path(dir, &format!("{prefix}_reduced.csv")),
         )?;
         let mut pts = Points::default();
         for (xyz, v) in rows.into_iter().filter(|r| r.1.is_finite()) {
@@ -226,7 +286,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             pts.uncertainty.push(m.uncertainty_floor_nt);
         }
         write_points(
-            &data_path(dir, "magnetic_points.csv"),
+            &data_path(dir, &format!("{prefix}_points.csv")),
             &pts,
             "tmi_nt",
             &format!(
@@ -239,8 +299,8 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             pts.value.len(),
             given_as.column
         ));
-    } else if let Some(m) = &p.magnetic {
-        let out = data_path(dir, "magnetic_reduced.csv");
+    } else {
+        let out = data_path(dir, &format!("{prefix}_reduced.csv"));
         let readings = reduce_magnetic(
             &MagneticJob {
                 inputs: m.files().map(|f| at(dir, f)).collect::<Result<_>>()?,
@@ -273,7 +333,7 @@ fn reduce(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
             }
         }
         write_points(
-            &data_path(dir, "magnetic_points.csv"),
+            &data_path(dir, &format!("{prefix}_points.csv")),
             &pts,
             "tmi_nt",
             &format!(

@@ -19,6 +19,8 @@ pub enum GridName {
     MagneticResidual,
     Terrain,
     Surface(String),
+    /// The grid of a further survey, by its key (`gravity_<name>_grid`).
+    Further(String),
 }
 
 impl GridName {
@@ -33,6 +35,7 @@ impl GridName {
             GridName::MagneticResidual => "magnetic_residual",
             GridName::Terrain => "terrain",
             GridName::Surface(s) => s,
+            GridName::Further(k) => k,
         }
     }
 }
@@ -81,6 +84,7 @@ impl GridsPanel {
             GridName::Terrain,
         ];
         choices.extend(p.surfaces.iter().map(|s| GridName::Surface(s.name.clone())));
+        choices.extend(further_grid_keys(p).into_iter().map(GridName::Further));
         map_controls(ws, ui, &mut self.grid, &choices);
     }
 }
@@ -110,4 +114,19 @@ pub fn grid_view(ws: &mut Workspace, ui: &mut Ui, grid: &GridName) {
     };
     ui.label(RichText::new(format!("{} — drag to pan, scroll to zoom", grid.key())).weak());
     grid_map(ws, ui, grid.key(), &pts, Some(version), vec![]);
+}
+
+/// The grid keys of the project's further surveys.
+pub fn further_grid_keys(p: &ProjectFile) -> Vec<String> {
+    use fieldstone_pipeline::steps::reduce::further_prefix;
+    p.more_gravity
+        .iter()
+        .map(|f| further_prefix("gravity", &f.name))
+        .chain(
+            p.more_magnetic
+                .iter()
+                .map(|f| further_prefix("magnetic", &f.name)),
+        )
+        .map(|k| format!("{k}_grid"))
+        .collect()
 }

@@ -9,7 +9,7 @@ use super::widgets::warn;
 use super::Workspace;
 use crate::pipeline::reduction::survey_files::{read_survey_files, ReadOptions};
 use egui::{RichText, Ui};
-use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile};
+use fieldstone_core::project::file::{FurtherSurvey, GravityInput, MagneticInput, ProjectFile};
 use fieldstone_core::survey::columns::{time_format_hint, ColumnSpec, Role};
 use fieldstone_core::survey::import::ImportSpec;
 use fieldstone_core::table::file::sniff_file;
@@ -22,6 +22,9 @@ use std::path::{Path, PathBuf};
 pub enum SurveyKind {
     Gravity,
     Magnetic,
+    /// A further survey beside the project's first of its kind.
+    FurtherGravity,
+    FurtherMagnetic,
 }
 
 impl SurveyKind {
@@ -29,8 +32,26 @@ impl SurveyKind {
         match self {
             SurveyKind::Gravity => "gravity",
             SurveyKind::Magnetic => "magnetic",
+            SurveyKind::FurtherGravity => "further gravity",
+            SurveyKind::FurtherMagnetic => "further magnetic",
         }
     }
+}
+
+/// A name for a further survey: its first file's name, made unique among
+/// `taken`.
+fn further_name(first: &str, taken: &[&str]) -> String {
+    let stem = Path::new(first)
+        .file_stem()
+        .map(|s| s.to_string_lossy().to_string())
+        .unwrap_or_else(|| "survey".into());
+    let mut name = stem.clone();
+    let mut k = 2;
+    while taken.contains(&name.as_str()) {
+        name = format!("{stem} {k}");
+        k += 1;
+    }
+    name
 }
 
 /// The first file's columns as the importer reads them, with the roles and
@@ -184,6 +205,18 @@ impl ImportForm {
                         }
                     }
                 });
+                ui.horizontal(|ui| {
+                    for kind in [SurveyKind::FurtherGravity, SurveyKind::FurtherMagnetic] {
+                        if ui
+                            .button(format!("Add as a {} survey", kind.label()))
+                            .on_hover_text("Beside the project's first survey of the kind (ground and airborne, another year): reduced and gridded on its own; the regional separation and the inversions use the first")
+                            .clicked()
+                        {
+                            self.message = None;
+                            self.start(ws, ui.ctx(), kind, p.epsg);
+                        }
+                    }
+                });
             });
         }
         if let Some(m) = &self.message {
@@ -267,6 +300,47 @@ impl ImportForm {
                         .zip(&pv.spec.columns)
                         .any(|(r, c)| *r == Role::Time && time_format_hint(&c.name).is_some());
                 match kind {
+                    SurveyKind::FurtherGravity => {
+                        let taken: Vec<&str> =
+                            p.more_gravity.iter().map(|f| f.name.as_str()).collect();
+                        let name = further_name(&rels[0], &taken);
+                        let mut g = GravityInput::of_file(&rels[0]);
+                        g.more_files = rels[1..].to_vec();
+                        g.columns = columns;
+                        g.units = units;
+                        g.tide = timed && !elapsed;
+                        p.more_gravity.push(FurtherSurvey {
+                            name,
+                            reduction: None,
+                            survey: g,
+                        });
+                    }
+                    SurveyKind::FurtherMagnetic => {
+                        let taken: Vec<&str> =
+                            p.more_magnetic.iter().map(|f| f.name.as_str()).collect();
+                        let name = further_name(&rels[0], &taken);
+                        let date = p
+                            .magnetic
+                            .as_ref()
+                            .map(|m| m.date.clone())
+                            .unwrap_or_else(|| "2026-01-01".into());
+                        p.more_magnetic.push(FurtherSurvey {
+                            name,
+                            reduction: None,
+                            survey: MagneticInput {
+                                file: rels[0].clone(),
+                                base_file: None,
+                                date,
+                                thin_to_m: 25.0,
+                                uncertainty_floor_nt: 1.0,
+                                uncertainty_percent: 2.0,
+                                given: None,
+                                more_files: rels[1..].to_vec(),
+                                columns,
+                                units,
+                            },
+                        });
+                    }
                     SurveyKind::Gravity => {
                         let old = p.gravity.take();
                         let mut g = GravityInput::of_file(&rels[0]);
@@ -306,10 +380,12 @@ impl ImportForm {
                 }
                 self.files.clear();
                 self.preview = None;
-                self.message = Some(format!(
-                    "{m}; it is now the project's {} survey",
-                    kind.label()
-                ));
+                self.message = Some(match kind {
+                    SurveyKind::FurtherGravity | SurveyKind::FurtherMagnetic => {
+                        format!("{m}; it is now a {} survey of the project", kind.label())
+                    }
+                    _ => format!("{m}; it is now the project's {} survey", kind.label()),
+                });
                 if let Some(d) = ws.doc.as_mut() {
                     // The survey's tables are read again off the frame.
                     d.reload_after_edit();
