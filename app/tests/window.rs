@@ -673,6 +673,24 @@ DEFN 7 ST=RECD,RT=;END DEFN\n";
         dir.join("inputs/flight2.dfn").exists(),
         "the definition was not copied"
     );
+    // The project records how each file was read.
+    let imports = &h.state().ws.doc.as_ref().unwrap().project.imports;
+    let files: Vec<&str> = imports.iter().map(|i| i.file.as_str()).collect();
+    assert_eq!(files, ["inputs/flight1.dat", "inputs/flight2.dat"]);
+    let tf = imports[1]
+        .spec
+        .columns
+        .iter()
+        .find(|c| c.name == "TF")
+        .unwrap();
+    assert_eq!(tf.role, R::Magnetic);
+    let ht = imports[1]
+        .spec
+        .columns
+        .iter()
+        .find(|c| c.name == "GPS_HT")
+        .unwrap();
+    assert_eq!(ht.unit, fieldstone_core::survey::columns::Unit::Foot);
     {
         let d = h.state_mut().ws.doc.as_mut().unwrap();
         d.before_edit();

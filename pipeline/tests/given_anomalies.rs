@@ -64,6 +64,7 @@ fn a_project_from_given_anomalies_matches_the_one_that_reduced_them() {
             column: "CBA (mGal)".into(),
             reduction_density_g_cc: Some(2.67),
             note: "complete Bouguer anomaly, terrain corrected to 1.5 km".into(),
+            height_above_ground_m: None,
         }),
         ..GravityInput::of_file("inputs/delivered_gravity.csv")
     });
@@ -76,6 +77,7 @@ fn a_project_from_given_anomalies_matches_the_one_that_reduced_them() {
         column: "TMI anomaly (nT)".into(),
         reduction_density_g_cc: None,
         note: String::new(),
+        height_above_ground_m: None,
     });
     pf.save(&b).unwrap();
     run(&b, &Selection::None, false, &Quiet).unwrap();
@@ -122,4 +124,104 @@ fn a_project_from_given_anomalies_matches_the_one_that_reduced_them() {
         header,
         "Station,Easting,Northing,Elevation,CBA (mGal),source_file,given_anomaly_mgal"
     );
+}
+
+/// Warnings of a run, kept.
+#[derive(Default)]
+struct Warnings(std::sync::Mutex<Vec<String>>);
+
+impl fieldstone_pipeline::Events for Warnings {
+    fn step(&self, e: &fieldstone_pipeline::StepEvent<'_>) {
+        if let fieldstone_pipeline::StepEvent::Warning { text, .. } = e {
+            self.0.lock().unwrap().push(text.to_string());
+        }
+    }
+}
+
+impl fieldstone_core::progress::Observer for Warnings {}
+
+/// A file read differently from how the project recorded it at import (its
+/// header changed since) is pointed out by the import step.
+#[test]
+fn a_file_read_otherwise_than_recorded_is_pointed_out() {
+    use fieldstone_core::survey::columns::Role;
+    use fieldstone_core::survey::import::ImportSpec;
+    use fieldstone_core::table::TextOptions;
+    let d = scratch("recorded");
+    write_demo(&d, DemoSize::Small, &Quiet).unwrap();
+    let mut p = ProjectFile::load(&d).unwrap().project;
+    let file = p.gravity.as_ref().unwrap().file.clone();
+    let mut spec =
+        ImportSpec::guess_for_file(&d.join(&file), &TextOptions::default(), p.epsg).unwrap();
+    // As if the line column had once been read as the station.
+    spec.set_role(Role::Station, "line").unwrap();
+    p.imports.push(fieldstone_core::project::file::ImportStep {
+        name: "gravity survey".into(),
+        file: file.clone(),
+        spec,
+    });
+    p.save(&d).unwrap();
+    let w = Warnings::default();
+    run(&d, &Selection::None, false, &w).unwrap();
+    let w = w.0.lock().unwrap();
+    assert!(
+        w.iter()
+            .any(|t| t.contains("recorded at import") && t.contains("gravity_readings.csv")),
+        "{w:?}"
+    );
+}
+
+/// A delivered anomaly grid (GeoTIFF): one point per node with a value, at
+/// the terrain's height; gridded again at the same cell it comes back node
+/// for node.
+#[test]
+fn a_delivered_grid_becomes_points_at_the_terrain_and_grids_back() {
+    let a = scratch("grid-source");
+    write_demo(&a, DemoSize::Small, &Quiet).unwrap();
+    run(&a, &Selection::None, false, &Quiet).unwrap();
+    let delivered = read_geotiff(&a.join("data/gravity_grid.tif")).unwrap();
+
+    let b = scratch("grid-given");
+    write_demo(&b, DemoSize::Small, &Quiet).unwrap();
+    std::fs::copy(
+        a.join("data/gravity_grid.tif"),
+        b.join("inputs/ba_grid.tif"),
+    )
+    .unwrap();
+    let mut p = ProjectFile::load(&b).unwrap().project;
+    p.gravity = Some(GravityInput {
+        given: Some(GivenAnomaly {
+            column: String::new(),
+            reduction_density_g_cc: Some(2.67),
+            note: "Bouguer grid as delivered".into(),
+            height_above_ground_m: Some(0.0),
+        }),
+        ..GravityInput::of_file("inputs/ba_grid.tif")
+    });
+    p.save(&b).unwrap();
+    run(&b, &Selection::None, false, &Quiet).unwrap();
+    let pts = points(&b.join("data/gravity_stations.csv"));
+    let nodes = delivered.values.iter().filter(|v| v.is_finite()).count();
+    assert_eq!(pts.len(), nodes);
+    // Heights from the demo's terrain model.
+    let dem = fieldstone_core::grid::read::read_grid(&b.join("inputs/terrain.tif")).unwrap();
+    for q in pts.iter().take(50) {
+        assert!(
+            (q[2] - dem.sample(q[0], q[1]).unwrap()).abs() < 1e-3,
+            "{q:?}"
+        );
+    }
+    let again = read_geotiff(&b.join("data/gravity_grid.tif")).unwrap();
+    assert_eq!(
+        (again.nx, again.ny, again.x0, again.y0),
+        (delivered.nx, delivered.ny, delivered.x0, delivered.y0)
+    );
+    let mut worst: f64 = 0.0;
+    for (u, v) in delivered.values.iter().zip(&again.values) {
+        if u.is_finite() && v.is_finite() {
+            worst = worst.max((u - v).abs());
+        }
+    }
+    // The stations file keeps six decimals.
+    assert!(worst < 1e-5, "largest difference {worst} mGal");
 }

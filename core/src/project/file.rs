@@ -147,6 +147,11 @@ pub struct GivenAnomaly {
     /// What the supplier says was done (free text kept with the project).
     #[serde(default, skip_serializing_if = "String::is_empty")]
     pub note: String,
+    /// For a delivered grid (GeoTIFF or ESRI ASCII): the height of the
+    /// anomalies above the terrain model, metres (0 for a ground survey;
+    /// the drape height of an airborne one). Table rows carry their own.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub height_above_ground_m: Option<f64>,
 }
 
 impl GravityInput {

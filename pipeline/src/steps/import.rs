@@ -7,10 +7,11 @@ use crate::context::hole_spec;
 use crate::data::write_text;
 use crate::error::{Error, Result};
 use crate::paths::{at, data_path};
-use crate::reduction::survey_files::{read_survey_files, ReadOptions};
+use crate::reduction::survey_files::{read_survey_files, ReadOptions, SurveyFile};
 use fieldstone_core::constraint::wireframe::Wireframe;
 use fieldstone_core::drillhole::tables::load_holes;
 use fieldstone_core::grid::read::read_grid;
+use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile, Scenario};
 use fieldstone_core::project::provenance::{hash_bytes, hash_json};
 use fieldstone_core::survey::columns::Role;
@@ -69,35 +70,35 @@ impl Stage for Import {
         vec![data_path(dir, "import_report.json")]
     }
     fn run(&self, job: &mut StepJob<'_>) -> Result<String> {
-        import(job.dir, job.project)
+        import(job.dir, job.project, job.observer)
     }
 }
 
-fn import(dir: &Path, p: &ProjectFile) -> Result<String> {
+fn import(dir: &Path, p: &ProjectFile, obs: &dyn Observer) -> Result<String> {
     let mut report = serde_json::Map::new();
     let mut parts = Vec::new();
     if let Some(g) = &p.gravity {
-        let (n, files) = check_gravity(dir, p, g)?;
+        let (n, files) = check_gravity(dir, p, g, obs)?;
         report.insert("gravity_readings".into(), n.into());
         report.insert("gravity_files".into(), files.into());
         parts.push(format!("{n} gravity readings in {files} file(s)"));
     }
     if let Some(m) = &p.magnetic {
-        let n = check_magnetic(dir, p, m)?;
+        let n = check_magnetic(dir, p, m, obs)?;
         report.insert("magnetic_readings".into(), n.into());
         parts.push(format!("{n} magnetic readings"));
     }
     check_names("gravity", p.more_gravity.iter().map(|f| f.name.as_str()))?;
     check_names("magnetic", p.more_magnetic.iter().map(|f| f.name.as_str()))?;
     for f in &p.more_gravity {
-        let (n, files) = check_gravity(dir, p, &f.survey)?;
+        let (n, files) = check_gravity(dir, p, &f.survey, obs)?;
         parts.push(format!(
             "{}: {n} gravity readings in {files} file(s)",
             f.name
         ));
     }
     for f in &p.more_magnetic {
-        let n = check_magnetic(dir, p, &f.survey)?;
+        let n = check_magnetic(dir, p, &f.survey, obs)?;
         parts.push(format!("{}: {n} magnetic readings", f.name));
     }
     if let Some(d) = &p.dem {
@@ -170,14 +171,60 @@ fn check_names<'a>(kind: &str, names: impl Iterator<Item = &'a str>) -> Result<(
 
 /// Reads a gravity survey's files and tables as its reduction will:
 /// (readings, files).
-fn check_gravity(dir: &Path, p: &ProjectFile, g: &GravityInput) -> Result<(usize, usize)> {
+/// Compares how each file is read now with how the project recorded it
+/// when it was imported (`project.imports`): a file whose header changed
+/// since is read differently, which the user should know.
+fn compare_with_record(p: &ProjectFile, dir: &Path, files: &[SurveyFile], obs: &dyn Observer) {
+    for f in files {
+        let Some(rec) = p
+            .imports
+            .iter()
+            .find(|i| at(dir, &i.file).ok().as_deref() == Some(f.path.as_path()))
+        else {
+            continue;
+        };
+        let now: Vec<_> = f
+            .spec
+            .columns
+            .iter()
+            .map(|c| (&c.name, c.role, c.unit))
+            .collect();
+        let then: Vec<_> = rec
+            .spec
+            .columns
+            .iter()
+            .map(|c| (&c.name, c.role, c.unit))
+            .collect();
+        if now != then {
+            obs.warning(&format!(
+                "{}: read now as {}, but recorded at import as {}; check the file or import it again",
+                f.path.display(),
+                f.spec.describe_columns(),
+                rec.spec.describe_columns()
+            ));
+        }
+    }
+}
+
+fn check_gravity(
+    dir: &Path,
+    p: &ProjectFile,
+    g: &GravityInput,
+    obs: &dyn Observer,
+) -> Result<(usize, usize)> {
     let files: Vec<PathBuf> = g.files().map(|f| at(dir, f)).collect::<Result<_>>()?;
+    if let (Some(_), [one]) = (&g.given, files.as_slice()) {
+        if let Some(n) = given_grid_nodes(one)? {
+            return Ok((n, 1));
+        }
+    }
     let read = ReadOptions {
         columns: g.columns.clone(),
         units: g.units.clone(),
         epsg: p.epsg,
     };
     let survey = read_survey_files(&files, &read, &[])?;
+    compare_with_record(p, dir, &survey, obs);
     let mut n = 0;
     for f in &survey {
         f.heights()?;
@@ -206,14 +253,25 @@ fn check_gravity(dir: &Path, p: &ProjectFile, g: &GravityInput) -> Result<(usize
 }
 
 /// Reads a magnetic survey's files as its reduction will: the readings.
-fn check_magnetic(dir: &Path, p: &ProjectFile, m: &MagneticInput) -> Result<usize> {
+fn check_magnetic(
+    dir: &Path,
+    p: &ProjectFile,
+    m: &MagneticInput,
+    obs: &dyn Observer,
+) -> Result<usize> {
     let read = ReadOptions {
         columns: m.columns.clone(),
         units: m.units.clone(),
         epsg: p.epsg,
     };
     let files: Vec<PathBuf> = m.files().map(|f| at(dir, f)).collect::<Result<_>>()?;
+    if let (Some(_), [one]) = (&m.given, files.as_slice()) {
+        if let Some(n) = given_grid_nodes(one)? {
+            return Ok(n);
+        }
+    }
     let survey = read_survey_files(&files, &read, &[])?;
+    compare_with_record(p, dir, &survey, obs);
     let mut n = 0;
     for f in &survey {
         f.heights()?;
@@ -229,4 +287,13 @@ fn check_magnetic(dir: &Path, p: &ProjectFile, m: &MagneticInput) -> Result<usiz
         n += f.survey.n_rows();
     }
     Ok(n)
+}
+
+/// The nodes with a value of a delivered anomaly grid; None for a table.
+fn given_grid_nodes(file: &Path) -> Result<Option<usize>> {
+    if !super::reduce::is_grid_file(file) {
+        return Ok(None);
+    }
+    let g = read_grid(file).map_err(|e| Error::Input(e.to_string()))?;
+    Ok(Some(g.values.iter().filter(|v| v.is_finite()).count()))
 }

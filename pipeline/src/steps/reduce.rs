@@ -12,8 +12,11 @@ use crate::reduction::survey_files::{read_survey_files, write_survey};
 use crate::reduction::{
     reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, ReadOptions, TerrainInputs,
 };
+use fieldstone_core::grid::read::read_grid;
 use fieldstone_core::progress::Observer;
-use fieldstone_core::project::file::{GravityInput, MagneticInput, ProjectFile, Scenario};
+use fieldstone_core::project::file::{
+    GivenAnomaly, GravityInput, MagneticInput, ProjectFile, Scenario,
+};
 use fieldstone_core::project::provenance::hash_json;
 use fieldstone_core::reduce::gravity::GravitySettings;
 use fieldstone_core::survey::columns::Role;
@@ -76,14 +79,23 @@ pub const GIVEN_MAGNETIC_COLUMN: &str = "given_anomaly_nt";
 
 /// Anomalies delivered already reduced: read through the importer, written
 /// to the reduced table (every input column, the file, the anomaly) and
-/// returned with positions; the reduction is not done again.
+/// returned with positions; the reduction is not done again. A delivered
+/// grid (GeoTIFF or ESRI ASCII) gives one point per node with a value, at
+/// the terrain's height plus the stated height above ground.
 fn given(
+    dir: &Path,
+    p: &ProjectFile,
     files: &[PathBuf],
     read: &ReadOptions,
-    column: &str,
+    how: &GivenAnomaly,
     out_column: &str,
     out: &Path,
 ) -> Result<Vec<([f64; 3], f64)>> {
+    if let [one] = files {
+        if is_grid_file(one) {
+            return given_grid(dir, p, one, how, out_column, out);
+        }
+    }
     let files = read_survey_files(files, read, &[out_column])?;
     let mut values = Vec::with_capacity(files.len());
     let mut rows = Vec::new();
@@ -92,13 +104,76 @@ fn given(
         f.require_finite(&s.x, Role::Easting)?;
         f.require_finite(&s.y, Role::Northing)?;
         let h = f.heights()?;
-        let v = f.column_values(column)?;
+        let v = f.column_values(&how.column)?;
         for k in 0..s.n_rows() {
             rows.push(([s.x[k], s.y[k], h[k]], v[k]));
         }
         values.push(v);
     }
     write_survey(out, &files, &[out_column], |fi, r| vec![values[fi][r]])?;
+    Ok(rows)
+}
+
+/// True for a file read as a grid rather than a table (GeoTIFF, ESRI ASCII).
+pub fn is_grid_file(path: &Path) -> bool {
+    path.extension()
+        .and_then(|e| e.to_str())
+        .is_some_and(|e| matches!(e.to_ascii_lowercase().as_str(), "tif" | "tiff" | "asc"))
+}
+
+/// The nodes of a delivered anomaly grid as points; the reduced table is
+/// `x,y,height_m,<out_column>`.
+fn given_grid(
+    dir: &Path,
+    p: &ProjectFile,
+    file: &Path,
+    how: &GivenAnomaly,
+    out_column: &str,
+    out: &Path,
+) -> Result<Vec<([f64; 3], f64)>> {
+    let g = read_grid(file).map_err(|e| Error::Input(e.to_string()))?;
+    if let (Some(a), Some(b)) = (g.epsg, p.epsg) {
+        if a != b {
+            return Err(Error::Input(format!(
+                "{} is in EPSG:{a} but the project is in EPSG:{b}; reproject one",
+                file.display()
+            )));
+        }
+    }
+    let dem_file = p.dem.as_deref().ok_or_else(|| {
+        Error::Input(format!(
+            "{}: the nodes of a delivered grid take their heights from the project's terrain model, and the project has none; add one (Model space) or deliver a table with heights",
+            file.display()
+        ))
+    })?;
+    let dem = read_grid(&at(dir, dem_file)?).map_err(|e| Error::Input(e.to_string()))?;
+    let above = how.height_above_ground_m.unwrap_or(0.0);
+    let mut rows = Vec::new();
+    let mut text = format!("x,y,height_m,{out_column}\n");
+    for j in 0..g.ny {
+        for i in 0..g.nx {
+            let v = g.get(i, j);
+            if !v.is_finite() {
+                continue;
+            }
+            let (x, y) = (g.x_of(i), g.y_of(j));
+            let z = dem.sample(x, y).map_err(|e| {
+                Error::Input(format!(
+                    "{}: node ({x:.1}, {y:.1}): the terrain model gives no height there ({e})",
+                    file.display()
+                ))
+            })? + above;
+            rows.push(([x, y, z], v));
+            text.push_str(&format!("{x},{y},{z},{v}\n"));
+        }
+    }
+    if rows.is_empty() {
+        return Err(Error::Input(format!(
+            "{}: the grid has no values",
+            file.display()
+        )));
+    }
+    crate::data::write_text(out, &text)?;
     Ok(rows)
 }
 
@@ -150,9 +225,11 @@ fn reduce_gravity_survey(
         };
         let files = g.files().map(|f| at(dir, f)).collect::<Result<Vec<_>>>()?;
         let rows = given(
+            dir,
+            p,
             &files,
             &read,
-            &given_as.column,
+            given_as,
             GIVEN_GRAVITY_COLUMN,
             &data_path(dir, &format!("{prefix}_reduced.csv")),
         )?;
@@ -273,9 +350,11 @@ fn reduce_magnetic_survey(
         };
         let files = m.files().map(|f| at(dir, f)).collect::<Result<Vec<_>>>()?;
         let rows = given(
+            dir,
+            p,
             &files,
             &read,
-            &given_as.column,
+            given_as,
             GIVEN_MAGNETIC_COLUMN,
             &data_path(dir, &format!("{prefix}_reduced.csv")),
         )?;

@@ -74,6 +74,7 @@ fn given_form(
             column: String::new(),
             reduction_density_g_cc: None,
             note: String::new(),
+            height_above_ground_m: None,
         });
     }
     let Some(g) = given.as_mut() else {
@@ -97,6 +98,15 @@ fn given_form(
         // Density models are contrasts relative to the reduction density.
         *d = rho;
     }
+    let mut above = g.height_above_ground_m.unwrap_or(0.0);
+    num(
+        ui,
+        "Height above the terrain (a delivered grid)",
+        &mut above,
+        1.0,
+        "m",
+    );
+    g.height_above_ground_m = (above != 0.0).then_some(above);
     ui.horizontal(|ui| {
         ui.label("What was done");
         ui.add(

@@ -9,7 +9,9 @@ use super::widgets::warn;
 use super::Workspace;
 use crate::pipeline::reduction::survey_files::{read_survey_files, ReadOptions};
 use egui::{RichText, Ui};
-use fieldstone_core::project::file::{FurtherSurvey, GravityInput, MagneticInput, ProjectFile};
+use fieldstone_core::project::file::{
+    FurtherSurvey, GravityInput, ImportStep, MagneticInput, ProjectFile,
+};
 use fieldstone_core::survey::columns::{time_format_hint, ColumnSpec, Role};
 use fieldstone_core::survey::import::ImportSpec;
 use fieldstone_core::table::file::sniff_file;
@@ -104,6 +106,9 @@ pub fn preview(path: &Path, epsg: Option<u32>) -> Result<Preview, String> {
     })
 }
 
+/// Where the import job leaves the spec each file was read with.
+type SpecSlot = std::sync::Arc<std::sync::Mutex<Vec<ImportSpec>>>;
+
 /// The import form's state.
 #[derive(Default)]
 pub struct ImportForm {
@@ -114,7 +119,7 @@ pub struct ImportForm {
     pub preview: Option<Preview>,
     pub message: Option<String>,
     /// The survey the background job is importing.
-    pending: Option<(SurveyKind, Vec<String>, Preview)>,
+    pending: Option<(SurveyKind, Vec<String>, Preview, SpecSlot)>,
 }
 
 /// Where a file lies inside the project folder, relative to it, or the
@@ -240,10 +245,15 @@ impl ImportForm {
         let files: Vec<PathBuf> = self.files.iter().map(PathBuf::from).collect();
         let read = pv.overrides(epsg);
         let rels: Vec<(String, bool)> = files.iter().map(|f| project_path(&dir, f)).collect();
-        self.pending = Some((kind, rels.iter().map(|r| r.0.clone()).collect(), pv));
+        let slot: SpecSlot = Default::default();
+        let specs = slot.clone();
+        self.pending = Some((kind, rels.iter().map(|r| r.0.clone()).collect(), pv, slot));
         ws.start_task(&format!("import of a {} survey", kind.label()), ctx, move |obs| {
             let read_files = read_survey_files(&files, &read, &[]).map_err(|e| e.to_string())?;
             let rows: usize = read_files.iter().map(|f| f.survey.n_rows()).sum();
+            if let Ok(mut v) = specs.lock() {
+                *v = read_files.iter().map(|f| f.spec.clone()).collect();
+            }
             for (f, w) in read_files.iter().flat_map(|f| f.survey.warnings.iter().map(move |w| (f, w))) {
                 obs.warning(&format!("{}: {w}", f.path.display()));
             }
@@ -281,12 +291,12 @@ impl ImportForm {
         let Some((title, result)) = ws.finished.take() else {
             return;
         };
-        let Some((kind, rels, pv)) = self.pending.take() else {
+        let Some((kind, rels, pv, slot)) = self.pending.take() else {
             return;
         };
         if !title.starts_with("import of a") {
             ws.finished = Some((title, result));
-            self.pending = Some((kind, rels, pv));
+            self.pending = Some((kind, rels, pv, slot));
             return;
         }
         match result {
@@ -377,6 +387,19 @@ impl ImportForm {
                             units,
                         });
                     }
+                }
+                // The project records how each file was read.
+                let specs = slot
+                    .lock()
+                    .map(|mut v| std::mem::take(&mut *v))
+                    .unwrap_or_default();
+                p.imports.retain(|i| !rels.contains(&i.file));
+                for (rel, spec) in rels.iter().zip(specs) {
+                    p.imports.push(ImportStep {
+                        name: format!("{} survey", kind.label()),
+                        file: rel.clone(),
+                        spec,
+                    });
                 }
                 self.files.clear();
                 self.preview = None;
