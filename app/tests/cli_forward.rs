@@ -268,3 +268,23 @@ fn stations_with_their_own_header_are_read_through_the_importer() {
         assert!((p - q).abs() < 1e-12, "{p} against {q}");
     }
 }
+
+/// A station table separated by spaces, with a `/` comment line, keeps its
+/// columns in the output (the importer's dialects are the output's).
+#[test]
+fn a_space_separated_station_table_keeps_its_columns() {
+    let dir = scratch("spaces");
+    let (o, out) = run_forward(
+        &dir,
+        BODIES,
+        b"/ stations from the crew's notebook\nx   y    z  note\n0   0   10  a\n30 -20   12  b\n",
+    );
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = std::fs::read_to_string(out).unwrap();
+    let mut lines = text.lines();
+    assert!(
+        lines.next().unwrap().starts_with("x,y,z,note,gz_mgal"),
+        "{text}"
+    );
+    assert!(lines.next().unwrap().starts_with("0,0,10,a,"), "{text}");
+}

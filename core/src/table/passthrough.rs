@@ -2,13 +2,17 @@
 //!
 //! Headless commands that add computed columns to a user's table (forward
 //! modelling, reductions) read it with [`read_passthrough`]: the header and
-//! every field are kept byte for byte, numeric columns are parsed on request
+//! every field's text are kept as read, numeric columns are parsed on request
 //! with file, line and column in every message, and [`write_with_columns`]
-//! writes the input columns plus the new ones. Comma, semicolon and tab
-//! delimiters are recognised from the header; lines starting with `#` are
-//! comments; LF and CRLF endings, a UTF-8 byte-order mark and Windows-1252
-//! text are accepted.
+//! writes the input columns plus the new ones. The fields are split by the
+//! table reader's own splitter (`read::visit_rows`), with its detection of
+//! delimiter (comma, semicolon, tab, runs of spaces), header, comment lines
+//! (`#`, `/`), quotes, LF/CRLF, byte-order mark and Windows-1252 text
+//! (written out as UTF-8), so the rows kept are the rows the importer reads.
 
+use super::read::visit_rows;
+use super::sniff::sniff;
+use super::{TableError, TextOptions};
 use crate::io::text::{decode_lossless_enough, strip_bom};
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -40,6 +44,8 @@ pub enum PassThroughError {
     },
     #[error("{file}: line 1: the input already has a column '{name}', which the output would add again; rename it")]
     OutputNameTaken { file: PathBuf, name: String },
+    #[error("{file}: the first line is not a header naming the columns; outputs that keep the input's columns need one")]
+    NoHeader { file: PathBuf },
     #[error("{file}: the header is the only row; there is no data")]
     NoRows { file: PathBuf },
     #[error("{file}: line {line}: expected {expected} fields as in the header, found {found}")]
@@ -84,24 +90,6 @@ pub struct PassThroughTable {
     pub lines: Vec<u64>,
 }
 
-/// Picks the delimiter from the first non-comment line: the most frequent of
-/// comma, semicolon and tab (comma when none appears).
-fn sniff_delimiter(bytes: &[u8]) -> u8 {
-    let first = bytes
-        .split(|&b| b == b'\n')
-        .find(|l| !l.is_empty() && l[0] != b'#' && !l.iter().all(|b| b.is_ascii_whitespace()))
-        .unwrap_or(b"");
-    let count = |d: u8| first.iter().filter(|&&b| b == d).count();
-    let mut best = (b',', count(b','));
-    for d in [b';', b'\t'] {
-        let c = count(d);
-        if c > best.1 {
-            best = (d, c);
-        }
-    }
-    best.0
-}
-
 /// Reads a table from a file; `output_columns` are names the output will add
 /// and must not be present already.
 pub fn read_passthrough(
@@ -141,45 +129,44 @@ fn read_gdf_passthrough_checked(
     Ok(Some(t))
 }
 
-/// Parses table bytes; `file` is used in messages.
+/// Parses table bytes; `file` is used in messages. The fields are split
+/// by the one splitter of delimited text (`read::visit_rows`), with the
+/// same detection of delimiter, header and comments as the importer, so the
+/// rows kept here are the rows the importer reads.
 pub fn parse_passthrough(
     bytes: &[u8],
     file: &Path,
     output_columns: &[&str],
 ) -> Result<PassThroughTable, PassThroughError> {
     let file_buf = file.to_path_buf();
-    let bytes = strip_bom(bytes);
-    if bytes.iter().all(|b| b.is_ascii_whitespace()) {
+    if strip_bom(bytes).iter().all(|b| b.is_ascii_whitespace()) {
         return Err(PassThroughError::Empty { file: file_buf });
     }
-    let mut rdr = csv::ReaderBuilder::new()
-        .delimiter(sniff_delimiter(bytes))
-        .comment(Some(b'#'))
-        .has_headers(true)
-        .flexible(false)
-        .from_reader(bytes);
-    let csv_err = |e: csv::Error| match e.kind() {
-        csv::ErrorKind::UnequalLengths {
-            pos,
-            expected_len,
-            len,
-        } => PassThroughError::Ragged {
-            file: file_buf.clone(),
-            line: pos.as_ref().map(|p| p.line()).unwrap_or(0),
-            expected: *expected_len,
-            found: *len,
-        },
-        _ => PassThroughError::Csv {
-            file: file_buf.clone(),
-            line: e.position().map(|p| p.line()).unwrap_or(0),
-            message: e.to_string(),
-        },
+    let sn = match sniff(bytes, file, &TextOptions::default()) {
+        Ok(sn) => sn,
+        Err(TableError::Empty { .. }) => return Err(PassThroughError::Empty { file: file_buf }),
+        Err(TableError::HeaderOnly { .. }) => {
+            return Err(PassThroughError::NoRows { file: file_buf })
+        }
+        Err(TableError::DuplicateColumn {
+            name,
+            first,
+            second,
+            ..
+        }) => {
+            return Err(PassThroughError::DuplicateColumn {
+                file: file_buf,
+                name,
+                first,
+                second,
+            })
+        }
+        Err(e) => return Err(e.into()),
     };
-    let header = rdr.byte_headers().map_err(csv_err)?.clone();
-    let names: Vec<String> = header
-        .iter()
-        .map(|h| decode_lossless_enough(h).trim().to_string())
-        .collect();
+    if !sn.has_header {
+        return Err(PassThroughError::NoHeader { file: file_buf });
+    }
+    let names: Vec<String> = sn.names.iter().map(|n| n.trim().to_string()).collect();
     for (i, n) in names.iter().enumerate() {
         if let Some(j) = names[..i].iter().position(|m| m.eq_ignore_ascii_case(n)) {
             return Err(PassThroughError::DuplicateColumn {
@@ -196,18 +183,21 @@ pub fn parse_passthrough(
             });
         }
     }
+    let mut header = csv::ByteRecord::new();
+    for n in &names {
+        header.push_field(n.as_bytes());
+    }
     let mut rows = Vec::new();
     let mut lines = Vec::new();
-    let mut rec = csv::ByteRecord::new();
-    loop {
-        match rdr.read_byte_record(&mut rec) {
-            Ok(false) => break,
-            Ok(true) => {}
-            Err(e) => return Err(csv_err(e)),
+    visit_rows(bytes, &sn, file, |line_no, line, sp| {
+        let mut r = csv::ByteRecord::with_capacity(line.len(), names.len());
+        for c in 0..names.len() {
+            r.push_field(sp.field(line, c).as_bytes());
         }
-        lines.push(rec.position().map(|p| p.line()).unwrap_or(0));
-        rows.push(rec.clone());
-    }
+        rows.push(r);
+        lines.push(line_no);
+        Ok(())
+    })?;
     if rows.is_empty() {
         return Err(PassThroughError::NoRows { file: file_buf });
     }
@@ -466,11 +456,28 @@ mod tests {
     }
 
     #[test]
-    fn non_utf8_pass_through_columns_survive_unchanged() {
+    fn windows_1252_text_is_carried_as_the_same_text_in_utf8() {
         let t = parse(b"x,y,z,note\n1,2,3,H\xF6he\n").unwrap();
         let mut out = Vec::new();
         write_with_columns(&t, &["gz_mgal", "other"], |_| vec![0.5, f64::NAN], &mut out).unwrap();
-        assert_eq!(out, b"x,y,z,note,gz_mgal,other\n1,2,3,H\xF6he,0.5,\n");
+        assert_eq!(
+            String::from_utf8(out).unwrap(),
+            "x,y,z,note,gz_mgal,other\n1,2,3,Höhe,0.5,\n"
+        );
+    }
+
+    /// The dialects the importer reads are the dialects kept: columns
+    /// separated by runs of spaces, and comment lines starting with `/`.
+    #[test]
+    fn space_separated_tables_and_slash_comments_keep_their_columns() {
+        let t = parse(b"/ crew 2\nx   y  z note\n0 0 10 a\n30 -20 12 b\n").unwrap();
+        assert_eq!(t.names, ["x", "y", "z", "note"]);
+        assert_eq!(t.lines, vec![3, 4]);
+        assert_eq!(&t.rows[1][3], b"b");
+        assert!(matches!(
+            parse(b"1,2,3\n4,5,6\n"),
+            Err(PassThroughError::NoHeader { .. })
+        ));
     }
 
     #[test]

@@ -1,6 +1,6 @@
 //! Streaming reader of delimited text into typed columns.
 
-use super::sniff::{decode_line, is_skipped, parse_number, sniff, Splitter};
+use super::sniff::{decode_line, is_skipped, parse_number, sniff, Sniffed, Splitter};
 use super::{is_dummy_token, ColumnData, ColumnKind, Table, TableError, TextOptions};
 use std::fs::File;
 use std::io::{BufRead, BufReader, Cursor, Read};
@@ -53,7 +53,7 @@ pub fn read_table_bytes(
 }
 
 fn read_from(
-    mut reader: impl BufRead,
+    reader: impl BufRead,
     head: &[u8],
     size_hint: usize,
     file: &Path,
@@ -104,12 +104,84 @@ fn read_from(
         .collect();
     let mut lines: Vec<u64> = Vec::with_capacity(est_rows);
     let mut dummies = vec![0usize; n_cols];
+    let dummy_value = opts.dummy_value;
+    visit_rows(reader, &sn, file, |line_no, line, sp| {
+        for (c, col) in columns.iter_mut().enumerate() {
+            let t = sp.field(line, c);
+            match col {
+                ColumnData::Number(v) => {
+                    if is_dummy_token(t) {
+                        dummies[c] += 1;
+                        v.push(f64::NAN);
+                        continue;
+                    }
+                    match parse_number(t, sn.delimiter) {
+                        Some(x) if dummy_value == Some(x) => {
+                            dummies[c] += 1;
+                            v.push(f64::NAN);
+                        }
+                        Some(x) => v.push(x),
+                        None => {
+                            return Err(TableError::NotNumber {
+                                file: file.to_path_buf(),
+                                line: line_no,
+                                column: sn.names[c].clone(),
+                                text: t.chars().take(40).collect(),
+                            })
+                        }
+                    }
+                }
+                ColumnData::Text(v) => {
+                    if is_dummy_token(t) {
+                        dummies[c] += 1;
+                    }
+                    v.push(t.to_string());
+                }
+            }
+        }
+        lines.push(line_no);
+        Ok(())
+    })?;
+    if lines.is_empty() {
+        return Err(if sn.has_header {
+            TableError::HeaderOnly {
+                file: file.to_path_buf(),
+            }
+        } else {
+            TableError::Empty {
+                file: file.to_path_buf(),
+            }
+        });
+    }
+    Ok(Table {
+        file: file.to_path_buf(),
+        delimiter: sn.delimiter,
+        has_header: sn.has_header,
+        names: sn.names,
+        columns,
+        lines,
+        dummies,
+    })
+}
+
+/// Visits every data row of a delimited table the way the reader splits
+/// it: comments and blank lines skipped, the header (when `sn` found one)
+/// left out, quotes honoured, every row checked for its field count. The
+/// visitor gets the file line, the line's text and the fields' spans in it.
+/// The one splitter of delimited text: the typed reader and the
+/// pass-through reader both go through it.
+pub fn visit_rows(
+    mut reader: impl BufRead,
+    sn: &Sniffed,
+    file: &Path,
+    mut visit: impl FnMut(u64, &str, &Splitter) -> Result<(), TableError>,
+) -> Result<(), TableError> {
+    let n_cols = sn.names.len();
     let mut buf = Vec::with_capacity(4096);
     let mut sp = Splitter::default();
     let mut line_no: u64 = 0;
     let mut header_pending = sn.has_header;
     let mut first_data_line: Option<u64> = None;
-    let dummy_value = opts.dummy_value;
     loop {
         buf.clear();
         let n = reader
@@ -165,61 +237,9 @@ fn read_from(
             });
         }
         first_data_line.get_or_insert(line_no);
-        for (c, col) in columns.iter_mut().enumerate() {
-            let t = sp.field(&line, c);
-            match col {
-                ColumnData::Number(v) => {
-                    if is_dummy_token(t) {
-                        dummies[c] += 1;
-                        v.push(f64::NAN);
-                        continue;
-                    }
-                    match parse_number(t, sn.delimiter) {
-                        Some(x) if dummy_value == Some(x) => {
-                            dummies[c] += 1;
-                            v.push(f64::NAN);
-                        }
-                        Some(x) => v.push(x),
-                        None => {
-                            return Err(TableError::NotNumber {
-                                file: file.to_path_buf(),
-                                line: line_no,
-                                column: sn.names[c].clone(),
-                                text: t.chars().take(40).collect(),
-                            })
-                        }
-                    }
-                }
-                ColumnData::Text(v) => {
-                    if is_dummy_token(t) {
-                        dummies[c] += 1;
-                    }
-                    v.push(t.to_string());
-                }
-            }
-        }
-        lines.push(line_no);
+        visit(line_no, &line, &sp)?;
     }
-    if lines.is_empty() {
-        return Err(if sn.has_header {
-            TableError::HeaderOnly {
-                file: file.to_path_buf(),
-            }
-        } else {
-            TableError::Empty {
-                file: file.to_path_buf(),
-            }
-        });
-    }
-    Ok(Table {
-        file: file.to_path_buf(),
-        delimiter: sn.delimiter,
-        has_header: sn.has_header,
-        names: sn.names,
-        columns,
-        lines,
-        dummies,
-    })
+    Ok(())
 }
 
 /// The first 256 kB of a file, for sniffing its layout.
