@@ -90,7 +90,8 @@ fn a_fixed_width_file_is_imported_with_roles_units_and_nulls_from_its_definition
     // The two comment records are lines 1 and 2: data begin on line 3.
     assert_eq!(s.file_lines, vec![3, 4, 5, 6, 7, 8]);
     assert_eq!(s.x[5], 452_125.0);
-    // 1005 ft = 306.324 m (international foot, 0.3048 m exactly).
+    // 1005 ft = 306.324 m (international foot, 0.3048 m exactly: the
+    // international yard and pound agreement of 1959, common practice).
     let h = s.elevation_m.as_ref().unwrap();
     assert!((h[5] - 1005.0 * 0.3048).abs() < 1e-9, "{}", h[5]);
     let tf = &s.channel(Role::Magnetic).unwrap().values;

@@ -105,12 +105,7 @@ pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
     if !(job.cell_m.is_finite() && job.cell_m > 0.0) {
         return Err(format!("cell size {} must be a positive size in metres", job.cell_m).into());
     }
-    let ext = job
-        .out
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(|e| e.to_ascii_lowercase())
-        .unwrap_or_default();
+    let ext = fieldstone_core::io::ending(&job.out);
     if !matches!(ext.as_str(), "tif" | "tiff" | "csv") {
         return Err(format!(
             "output {}: the output must end in .tif or .csv",
@@ -230,11 +225,7 @@ pub fn grid_points(job: &GridJob, obs: &dyn Observer) -> Result<Grid2> {
 
 /// Writes a grid as GeoTIFF or as x,y,value CSV by the file's extension.
 pub fn write_grid(out: &Path, g: &Grid2) -> Result<()> {
-    let ext = out
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(|e| e.to_ascii_lowercase())
-        .unwrap_or_default();
+    let ext = fieldstone_core::io::ending(out);
     if ext == "csv" {
         struct E(String);
         impl From<WriteError> for E {

@@ -77,7 +77,9 @@ fn a_further_gravity_survey_is_reduced_and_gridded_on_its_own() {
         );
     }
     // The further survey's own files; its Bouguer slab scales with its own
-    // density (2πGρh is linear in ρ), its free-air anomaly does not change.
+    // density (the slab 2πGρh is linear in ρ: Blakely 1995, Potential
+    // Theory in Gravity and Magnetic Applications; Hinze et al. 2005), its
+    // free-air anomaly, which does not involve density, does not change.
     let own = b.join("data/gravity_reprocessed_2_0_reduced.csv");
     let first = a.join("data/gravity_reduced.csv");
     let (s1, s2) = (

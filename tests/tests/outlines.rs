@@ -56,7 +56,8 @@ fn geojson_features_with_holes_and_parts_are_projected_to_the_project() {
         "{warnings:?}"
     );
     // 81° W is the central meridian of UTM zone 17: easting 500 000 m
-    // exactly there, by the definition of the projection.
+    // exactly there, the false easting on the central meridian (Snyder
+    // 1987, Map Projections — A Working Manual, USGS PP 1395, UTM).
     let v = o[0].parts[0].outer[0];
     assert!((v[0] - 500_000.0).abs() < 1e-6, "{v:?}");
     let utm = Crs::from_epsg(32617).unwrap();

@@ -25,13 +25,15 @@ pub enum GridReadError {
     Format { file: PathBuf },
 }
 
+/// True for a file that can only be a grid (GeoTIFF, ESRI ASCII); XYZ,
+/// CSV and text files may be tables as well.
+pub fn is_grid_file(path: &Path) -> bool {
+    matches!(crate::io::ending(path).as_str(), "tif" | "tiff" | "asc")
+}
+
 /// Reads a grid by its file ending.
 pub fn read_grid(path: &Path) -> Result<Grid2, GridReadError> {
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(|e| e.to_ascii_lowercase())
-        .unwrap_or_default();
+    let ext = crate::io::ending(path);
     match ext.as_str() {
         "tif" | "tiff" => Ok(read_geotiff(path)?),
         "asc" => Ok(read_ascii_grid(path)?),

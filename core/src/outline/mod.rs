@@ -99,11 +99,7 @@ pub enum OutlineError {
 
 /// Reads outlines by the file's ending: `.geojson`/`.json` or `.shp`.
 pub fn read_outlines(path: &Path) -> Result<OutlineFile, OutlineError> {
-    let ext = path
-        .extension()
-        .and_then(|e| e.to_str())
-        .map(|e| e.to_ascii_lowercase())
-        .unwrap_or_default();
+    let ext = crate::io::ending(path);
     match ext.as_str() {
         "geojson" | "json" => geojson::read_geojson(path),
         "shp" => shapefile::read_shapefile(path),

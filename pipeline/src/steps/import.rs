@@ -291,7 +291,7 @@ fn check_magnetic(
 
 /// The nodes with a value of a delivered anomaly grid; None for a table.
 fn given_grid_nodes(file: &Path) -> Result<Option<usize>> {
-    if !super::reduce::is_grid_file(file) {
+    if !fieldstone_core::grid::read::is_grid_file(file) {
         return Ok(None);
     }
     let g = read_grid(file).map_err(|e| Error::Input(e.to_string()))?;

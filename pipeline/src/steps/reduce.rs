@@ -12,7 +12,7 @@ use crate::reduction::survey_files::{read_survey_files, write_survey};
 use crate::reduction::{
     reduce_gravity, reduce_magnetic, BaseTie, GravityJob, MagneticJob, ReadOptions, TerrainInputs,
 };
-use fieldstone_core::grid::read::read_grid;
+use fieldstone_core::grid::read::{is_grid_file, read_grid};
 use fieldstone_core::progress::Observer;
 use fieldstone_core::project::file::{
     GivenAnomaly, GravityInput, MagneticInput, ProjectFile, Scenario,
@@ -112,13 +112,6 @@ fn given(
     }
     write_survey(out, &files, &[out_column], |fi, r| vec![values[fi][r]])?;
     Ok(rows)
-}
-
-/// True for a file read as a grid rather than a table (GeoTIFF, ESRI ASCII).
-pub fn is_grid_file(path: &Path) -> bool {
-    path.extension()
-        .and_then(|e| e.to_str())
-        .is_some_and(|e| matches!(e.to_ascii_lowercase().as_str(), "tif" | "tiff" | "asc"))
 }
 
 /// The nodes of a delivered anomaly grid as points; the reduced table is

@@ -40,6 +40,42 @@ impl SurveyKind {
     }
 }
 
+type Pairs = Vec<(String, String)>;
+
+/// A gravity survey of the imported files with the usual settings, the
+/// user's role and unit overrides, and the tide on when times allow it.
+fn gravity_of(rels: &[String], columns: Pairs, units: Pairs, tide: bool) -> GravityInput {
+    let mut g = GravityInput::of_file(&rels[0]);
+    g.more_files = rels[1..].to_vec();
+    g.columns = columns;
+    g.units = units;
+    g.tide = tide;
+    g
+}
+
+/// A magnetic survey of the imported files: thinned to 25 m, uncertainty
+/// 1 nT + 2 % (common practice for ground and low-level surveys).
+fn magnetic_of(
+    rels: &[String],
+    base_file: Option<String>,
+    date: String,
+    columns: Pairs,
+    units: Pairs,
+) -> MagneticInput {
+    MagneticInput {
+        file: rels[0].clone(),
+        base_file,
+        date,
+        thin_to_m: 25.0,
+        uncertainty_floor_nt: 1.0,
+        uncertainty_percent: 2.0,
+        given: None,
+        more_files: rels[1..].to_vec(),
+        columns,
+        units,
+    }
+}
+
 /// A name for a further survey: its first file's name, made unique among
 /// `taken`.
 fn further_name(first: &str, taken: &[&str]) -> String {
@@ -314,15 +350,10 @@ impl ImportForm {
                         let taken: Vec<&str> =
                             p.more_gravity.iter().map(|f| f.name.as_str()).collect();
                         let name = further_name(&rels[0], &taken);
-                        let mut g = GravityInput::of_file(&rels[0]);
-                        g.more_files = rels[1..].to_vec();
-                        g.columns = columns;
-                        g.units = units;
-                        g.tide = timed && !elapsed;
                         p.more_gravity.push(FurtherSurvey {
                             name,
                             reduction: None,
-                            survey: g,
+                            survey: gravity_of(&rels, columns, units, timed && !elapsed),
                         });
                     }
                     SurveyKind::FurtherMagnetic => {
@@ -337,27 +368,12 @@ impl ImportForm {
                         p.more_magnetic.push(FurtherSurvey {
                             name,
                             reduction: None,
-                            survey: MagneticInput {
-                                file: rels[0].clone(),
-                                base_file: None,
-                                date,
-                                thin_to_m: 25.0,
-                                uncertainty_floor_nt: 1.0,
-                                uncertainty_percent: 2.0,
-                                given: None,
-                                more_files: rels[1..].to_vec(),
-                                columns,
-                                units,
-                            },
+                            survey: magnetic_of(&rels, None, date, columns, units),
                         });
                     }
                     SurveyKind::Gravity => {
                         let old = p.gravity.take();
-                        let mut g = GravityInput::of_file(&rels[0]);
-                        g.more_files = rels[1..].to_vec();
-                        g.columns = columns;
-                        g.units = units;
-                        g.tide = timed && !elapsed;
+                        let mut g = gravity_of(&rels, columns, units, timed && !elapsed);
                         if let Some(o) = old {
                             g.terrain_outer_m = o.terrain_outer_m;
                             g.bases = o.bases;
@@ -371,21 +387,15 @@ impl ImportForm {
                     }
                     SurveyKind::Magnetic => {
                         let old = p.magnetic.take();
-                        p.magnetic = Some(MagneticInput {
-                            file: rels[0].clone(),
-                            base_file: old.as_ref().and_then(|m| m.base_file.clone()),
-                            date: old
-                                .as_ref()
+                        p.magnetic = Some(magnetic_of(
+                            &rels,
+                            old.as_ref().and_then(|m| m.base_file.clone()),
+                            old.as_ref()
                                 .map(|m| m.date.clone())
                                 .unwrap_or_else(|| "2026-01-01".into()),
-                            thin_to_m: 25.0,
-                            uncertainty_floor_nt: 1.0,
-                            uncertainty_percent: 2.0,
-                            given: None,
-                            more_files: rels[1..].to_vec(),
                             columns,
                             units,
-                        });
+                        ));
                     }
                 }
                 // The project records how each file was read.
